@@ -1,0 +1,233 @@
+"""Fixed configurations of a structure: tetrahedral parities, planar-bond geometry, stereoisomer choice.
+
+A symmetry of the time-averaged structure must keep every configuration that does not change on the NMR
+time scale (DESIGN.md §3): tetrahedral centres (including prochiral ones), C=C and C=N geometry, and the
+C(=O)–N bond of amides while amide rotation is slow. Parities are read from RDKit chiral tags (relative to
+each atom's bond order); centres without a tag are not stereogenic, so any fixed parity is a realisable one.
+Double-bond geometry is read from bond stereo; in rings of fewer than eight atoms ring neighbours are cis.
+"""
+from __future__ import annotations
+
+import itertools
+from dataclasses import dataclass
+
+from rdkit import Chem
+
+_MAIN_GROUP_TETRAHEDRAL = {5, 6, 7, 13, 14, 15, 16, 32, 33, 34, 50, 51, 52}
+_LONE_PAIR_PYRAMIDAL = {15, 16, 33, 34, 51, 52}  # P, S, As, Se, Sb, Te invert slowly (common practice)
+_CHALCOGENS = {8, 16}
+MAX_STEREOISOMERS = 64
+
+
+@dataclass(frozen=True)
+class Centre:
+    """A tetrahedral (or pyramidal, lone pair implied) centre: ordered neighbours and their parity (±1)."""
+
+    atom: int
+    nbrs: tuple[int, ...]
+    parity: int
+
+
+@dataclass(frozen=True)
+class PlanarBond:
+    """A bond with fixed geometry: `cis` holds the pairs of substituents on the same side."""
+
+    a: int
+    b: int
+    subs_a: tuple[int, ...]
+    subs_b: tuple[int, ...]
+    cis: frozenset
+    kind: str  # "double" or "amide"
+
+
+@dataclass(frozen=True)
+class Configuration:
+    centres: tuple[Centre, ...]
+    planar: tuple[PlanarBond, ...]
+
+
+def _is_tetrahedral_centre(atom: Chem.Atom) -> bool:
+    z = atom.GetAtomicNum()
+    if z not in _MAIN_GROUP_TETRAHEDRAL or atom.GetIsAromatic():
+        return False
+    deg = atom.GetDegree()
+    if deg == 4:
+        return all(b.GetBondType() != Chem.BondType.TRIPLE for b in atom.GetBonds()) and \
+            sum(1 for b in atom.GetBonds() if b.GetBondType() == Chem.BondType.DOUBLE) <= 2 and \
+            (z != 6 or all(b.GetBondType() == Chem.BondType.SINGLE for b in atom.GetBonds()))
+    if deg == 3 and z in _LONE_PAIR_PYRAMIDAL:
+        for b in atom.GetBonds():
+            if b.GetBondType() == Chem.BondType.DOUBLE:
+                other = b.GetOtherAtom(atom)
+                if not (other.GetAtomicNum() in (7, 8, 16) and other.GetDegree() == 1) or z == 15:
+                    return False
+            elif b.GetBondType() != Chem.BondType.SINGLE:
+                return False
+        return atom.GetFormalCharge() >= 0 and (z != 15 or atom.GetFormalCharge() == 0)
+    return False
+
+
+def _amide_bond(bond: Chem.Bond) -> tuple[int, int] | None:
+    """(carbonyl C, N) of an amide, thioamide, lactam or carbamate C–N single bond; ureas rotate fast."""
+    if bond.GetBondType() != Chem.BondType.SINGLE or bond.GetIsAromatic():
+        return None
+    for c, n in ((bond.GetBeginAtom(), bond.GetEndAtom()), (bond.GetEndAtom(), bond.GetBeginAtom())):
+        if c.GetAtomicNum() != 6 or n.GetAtomicNum() != 7 or n.GetDegree() != 3 or n.GetIsAromatic():
+            continue
+        if n.GetFormalCharge() != 0 or c.GetIsAromatic():
+            continue
+        has_carbonyl = any(b.GetBondType() == Chem.BondType.DOUBLE and
+                           b.GetOtherAtom(c).GetAtomicNum() in _CHALCOGENS for b in c.GetBonds())
+        n_nitrogens = sum(1 for x in c.GetNeighbors() if x.GetAtomicNum() == 7)
+        if has_carbonyl and n_nitrogens == 1:
+            return c.GetIdx(), n.GetIdx()
+    return None
+
+
+def _small_ring_partner(mol: Chem.Mol, a: int, b: int, subs_a, subs_b):
+    """Ring neighbours (x on a, y on b) that a ring of fewer than eight atoms forces cis."""
+    for ring in mol.GetRingInfo().AtomRings():
+        if len(ring) < 8 and a in ring and b in ring:
+            xs = [x for x in subs_a if x in ring]
+            ys = [y for y in subs_b if y in ring]
+            if xs and ys:
+                return xs[0], ys[0]
+    return None
+
+
+def _cis_pairs(subs_a, subs_b, x, y, x_cis_y: bool) -> frozenset:
+    pairs = set()
+    for p in subs_a:
+        for q in subs_b:
+            same_side = ((p == x) == (q == y)) == x_cis_y
+            if same_side:
+                pairs.add(frozenset((p, q)))
+    return frozenset(pairs)
+
+
+def _preferred_reference(mol: Chem.Mol, subs, ranks) -> int:
+    """The substituent used as reference on an unspecified planar end: highest (Z, rank)."""
+    return max(subs, key=lambda i: (mol.GetAtomWithIdx(i).GetAtomicNum(), ranks[i]))
+
+
+def configuration(mol: Chem.Mol, amide_rotation_fast: bool = False) -> Configuration:
+    """Read every fixed configuration of an explicit-H molecule."""
+    ranks = list(Chem.CanonicalRankAtoms(mol, breakTies=False, includeChirality=False))
+    centres = []
+    for atom in mol.GetAtoms():
+        if not _is_tetrahedral_centre(atom):
+            continue
+        idx = atom.GetIdx()
+        nbrs = tuple(b.GetOtherAtomIdx(idx) for b in atom.GetBonds())
+        tag = atom.GetChiralTag()
+        parity = -1 if tag == Chem.ChiralType.CHI_TETRAHEDRAL_CW else 1
+        centres.append(Centre(idx, nbrs, parity))
+    planar = []
+    for bond in mol.GetBonds():
+        a, b = bond.GetBeginAtomIdx(), bond.GetEndAtomIdx()
+        kind = None
+        if bond.GetBondType() == Chem.BondType.DOUBLE and not bond.GetIsAromatic():
+            kind = "double"
+        elif not amide_rotation_fast and _amide_bond(bond):
+            kind = "amide"
+            a, b = _amide_bond(bond)
+        if kind is None:
+            continue
+        atom_a, atom_b = mol.GetAtomWithIdx(a), mol.GetAtomWithIdx(b)
+        if any(_is_linear(x) for x in (atom_a, atom_b)):
+            continue
+        subs_a = tuple(n.GetIdx() for n in atom_a.GetNeighbors() if n.GetIdx() != b)
+        subs_b = tuple(n.GetIdx() for n in atom_b.GetNeighbors() if n.GetIdx() != a)
+        if not subs_a or not subs_b or len(subs_a) > 2 or len(subs_b) > 2:
+            continue
+        st = bond.GetStereo()
+        stereo_atoms = list(bond.GetStereoAtoms())
+        if kind == "double" and st in (Chem.BondStereo.STEREOCIS, Chem.BondStereo.STEREOTRANS) \
+                and len(stereo_atoms) == 2:
+            x, y = stereo_atoms
+            if x not in subs_a:
+                x, y = y, x
+            cis = _cis_pairs(subs_a, subs_b, x, y, st == Chem.BondStereo.STEREOCIS)
+        else:
+            ring_pair = _small_ring_partner(mol, a, b, subs_a, subs_b)
+            if ring_pair:
+                cis = _cis_pairs(subs_a, subs_b, ring_pair[0], ring_pair[1], True)
+            else:
+                x = _preferred_reference(mol, subs_a, ranks)
+                y = _preferred_reference(mol, subs_b, ranks)
+                cis = _cis_pairs(subs_a, subs_b, x, y, True)
+        planar.append(PlanarBond(a, b, subs_a, subs_b, cis, kind))
+    return Configuration(tuple(centres), tuple(planar))
+
+
+def _is_linear(atom: Chem.Atom) -> bool:
+    doubles = sum(1 for b in atom.GetBonds() if b.GetBondType() == Chem.BondType.DOUBLE)
+    triples = sum(1 for b in atom.GetBonds() if b.GetBondType() == Chem.BondType.TRIPLE)
+    return triples > 0 or (doubles >= 2 and atom.GetDegree() == 2)
+
+
+@dataclass(frozen=True)
+class StereoChoice:
+    """The stereoisomers compatible with the input and a description of what was left unspecified."""
+
+    isomers: tuple          # explicit-H molecules, first = the one analysed by default
+    unspecified: tuple[str, ...]
+
+
+def unspecified_elements(mol: Chem.Mol) -> list:
+    return [si for si in Chem.FindPotentialStereo(mol)
+            if si.specified == Chem.StereoSpecified.Unspecified and
+            si.type in (Chem.StereoType.Atom_Tetrahedral, Chem.StereoType.Bond_Double)]
+
+
+def _describe(mol: Chem.Mol, si) -> str:
+    if si.type == Chem.StereoType.Atom_Tetrahedral:
+        atom = mol.GetAtomWithIdx(si.centeredOn)
+        return f"stereocentre {atom.GetSymbol()}{si.centeredOn}"
+    bond = mol.GetBondWithIdx(si.centeredOn)
+    return f"double bond {bond.GetBeginAtom().GetSymbol()}{bond.GetBeginAtomIdx()}=" \
+           f"{bond.GetEndAtom().GetSymbol()}{bond.GetEndAtomIdx()}"
+
+
+def stereoisomers(mol: Chem.Mol, limit: int = MAX_STEREOISOMERS) -> StereoChoice:
+    """Assign every unspecified stereo element of an explicit-H molecule, distinct isomers only.
+
+    Isomers are told apart by canonical isomeric SMILES; in cages a combination the ring system cannot
+    adopt is dropped by requiring that RDKit can embed it.
+    """
+    elems = unspecified_elements(mol)
+    if not elems:
+        return StereoChoice((mol,), ())
+    descr = tuple(_describe(mol, si) for si in elems)
+    bridged = Chem.rdMolDescriptors.CalcNumBridgeheadAtoms(mol) > 0
+    seen, out = set(), []
+    for combo in itertools.product((0, 1), repeat=len(elems)):
+        iso = Chem.Mol(mol)
+        for si, bit in zip(elems, combo):
+            if si.type == Chem.StereoType.Atom_Tetrahedral:
+                iso.GetAtomWithIdx(si.centeredOn).SetChiralTag(
+                    Chem.ChiralType.CHI_TETRAHEDRAL_CW if bit else Chem.ChiralType.CHI_TETRAHEDRAL_CCW)
+            else:
+                bond = iso.GetBondWithIdx(si.centeredOn)
+                ca = list(si.controllingAtoms)
+                bond.SetStereoAtoms(ca[0], ca[2])
+                bond.SetStereo(Chem.BondStereo.STEREOTRANS if bit else Chem.BondStereo.STEREOCIS)
+        key = Chem.MolToSmiles(Chem.RemoveHs(iso, sanitize=False))
+        if key in seen:
+            continue
+        if bridged and not _embeds(iso):
+            continue
+        seen.add(key)
+        out.append(iso)
+        if len(out) >= limit or len(seen) > 4 * limit:
+            break
+    return StereoChoice(tuple(out) or (mol,), descr)
+
+
+def _embeds(mol: Chem.Mol) -> bool:
+    from rdkit.Chem import AllChem
+    try:
+        return AllChem.EmbedMolecule(Chem.Mol(mol), randomSeed=7, maxAttempts=20,
+                                     enforceChirality=True) == 0
+    except Exception:
+        return False

@@ -1,0 +1,479 @@
+"""Exact quantum-mechanical simulation of NMR line lists for spin systems.
+
+Hamiltonian (in Hz, rotating frame of each isotope, high-field limit):
+
+    H = sum_k nu_k I_zk + sum_{k<l, same isotope} J_kl I_k . I_l
+                        + sum_{k<l, different isotopes} J_kl I_zk I_zl
+
+Lines are the transitions of the observed isotope's lowering operator
+F- = sum_k I-_k, with intensity |<f|F-|i>|^2 at uniform (high-temperature)
+populations, and frequency E_i - E_f.  The standard treatment is given in
+Pople, Schneider & Bernstein, *High-resolution Nuclear Magnetic Resonance*
+(1959), ch. 6, and Corio, *Structure of High-Resolution NMR Spectra* (1966).
+
+Work is kept small by three exact reductions:
+
+* fragments: nuclei not linked by any non-zero coupling are simulated apart;
+* magnetically equivalent groups (equal shift, equal spin, equal coupling to
+  every nucleus outside the group) are replaced by composite spins of each
+  allowed total spin S with its multiplicity (the intra-group couplings then
+  drop out because they commute with the rest of H and with F-);
+* the Hamiltonian is block diagonal in the total Fz of every isotope; blocks
+  are built with index arrays (no loop over basis states) and diagonalised
+  with LAPACK (numpy.linalg.eigh).
+
+Intensities are scaled so that every observed nucleus contributes one unit:
+sum of intensities = number of observed nuclei (the sum rule
+Tr(F+F-) / dim = N * 2/3 I(I+1) is what makes that hold, nothing rescales it).
+"""
+
+from __future__ import annotations
+
+import itertools
+import math
+from dataclasses import dataclass
+
+import numpy as np
+import scipy.sparse as sp
+
+from equivclass.errors import InputError
+
+#: Largest Fz block (states) the simulator will diagonalise; a 14-spin
+#: fully coupled spin-1/2 system needs 3432, 15 spins need 6435.
+MAX_BLOCK = 6500
+#: Largest Hilbert space (states) of one fragment after composite reduction.
+MAX_STATES = 1 << 20
+#: Lines closer than this (Hz) are merged, their intensities summed.
+MERGE_HZ = 1e-6
+#: Lines weaker than this fraction of the strongest line are dropped.
+DROP_RELATIVE = 1e-9
+#: Couplings and shift differences below this (Hz) count as zero / equal.
+ZERO_HZ = 1e-9
+
+
+@dataclass(frozen=True)
+class SpinSystem:
+    """Nuclei with shifts (Hz), symmetric coupling matrix (Hz), spins and isotopes."""
+
+    shifts_hz: tuple
+    j_hz: tuple
+    spins: tuple
+    isotopes: tuple
+    record: str = "spin system"
+
+    def __post_init__(self):
+        shifts, j, spins, isotopes = _validated(
+            self.shifts_hz, self.j_hz, self.spins, self.isotopes, self.record)
+        object.__setattr__(self, "shifts_hz", tuple(float(x) for x in shifts))
+        object.__setattr__(self, "j_hz", tuple(tuple(float(x) for x in row) for row in j))
+        object.__setattr__(self, "spins", tuple(spins))
+        object.__setattr__(self, "isotopes", tuple(isotopes))
+
+    @property
+    def size(self) -> int:
+        return len(self.shifts_hz)
+
+
+@dataclass(frozen=True, eq=False)
+class Transitions:
+    """Line list of one observed isotope: frequencies (Hz, ascending) and intensities."""
+
+    freqs_hz: np.ndarray
+    intensities: np.ndarray
+    isotope: str
+
+    def __post_init__(self):
+        f = np.array(self.freqs_hz, dtype=float)
+        a = np.array(self.intensities, dtype=float)
+        f.setflags(write=False)
+        a.setflags(write=False)
+        object.__setattr__(self, "freqs_hz", f)
+        object.__setattr__(self, "intensities", a)
+
+
+# --------------------------------------------------------------------------- input
+
+def _validated(shifts, j, spins, isotopes, record):
+    """Check shapes and values; return numpy arrays and python lists or raise InputError."""
+    try:
+        nu = np.asarray(shifts, dtype=float)
+    except (TypeError, ValueError):
+        raise InputError(f"{record}: shifts must be numbers (Hz)") from None
+    if nu.ndim != 1 or nu.size == 0:
+        raise InputError(f"{record}: shifts must be a non-empty list of numbers (Hz)")
+    n = nu.size
+    if not np.all(np.isfinite(nu)):
+        raise InputError(f"{record}: shifts must be finite numbers")
+    try:
+        jm = np.asarray(j, dtype=float)
+    except (TypeError, ValueError):
+        raise InputError(f"{record}: J matrix must be a square table of numbers (Hz)") from None
+    if jm.shape != (n, n):
+        raise InputError(f"{record}: J matrix must be {n}x{n} to match {n} shifts, "
+                         f"got shape {'x'.join(map(str, jm.shape)) or 'scalar'}")
+    if not np.all(np.isfinite(jm)):
+        raise InputError(f"{record}: J matrix must hold finite numbers")
+    scale = max(1.0, float(np.max(np.abs(jm))))
+    bad = np.argwhere(np.abs(jm - jm.T) > 1e-9 * scale)
+    if bad.size:
+        a, b = (int(x) for x in bad[0])
+        raise InputError(f"{record}: J matrix is not symmetric (J[{a}][{b}]={jm[a, b]:g} "
+                         f"but J[{b}][{a}]={jm[b, a]:g})")
+    diag = np.flatnonzero(np.abs(np.diag(jm)) > 0)
+    if diag.size:
+        k = int(diag[0])
+        raise InputError(f"{record}: J[{k}][{k}] must be 0 (a nucleus does not couple to itself)")
+    if spins is None:
+        spins = [0.5] * n
+    spins = list(spins)
+    if len(spins) != n:
+        raise InputError(f"{record}: {len(spins)} spins given for {n} nuclei")
+    out_spins = []
+    for k, s in enumerate(spins):
+        try:
+            twice = float(s) * 2.0
+        except (TypeError, ValueError):
+            raise InputError(f"{record}: spin of nucleus {k} is not a number: {s!r}") from None
+        if not math.isfinite(twice) or twice < 1 or abs(twice - round(twice)) > 1e-9:
+            raise InputError(f"{record}: spin of nucleus {k} must be a positive multiple "
+                             f"of 1/2, got {s!r}")
+        out_spins.append(round(twice) / 2)
+    if isotopes is None:
+        isotopes = ["*"] * n          # one unnamed isotope (hand-given systems)
+    isotopes = [str(x) for x in isotopes]
+    if len(isotopes) != n:
+        raise InputError(f"{record}: {len(isotopes)} isotopes given for {n} nuclei")
+    if any(not x.strip() for x in isotopes):
+        raise InputError(f"{record}: isotope names must not be empty")
+    for iso in set(isotopes):
+        ss = {out_spins[k] for k in range(n) if isotopes[k] == iso}
+        if len(ss) > 1 and iso != "*":
+            raise InputError(f"{record}: nuclei of isotope {iso} are given different spins "
+                             f"{sorted(ss)}")
+    return nu, jm, out_spins, isotopes
+
+
+def system_from_mapping(data, record: str = "spin system") -> SpinSystem:
+    """Build a SpinSystem from a parsed JSON object.
+
+    Keys: ``shifts_hz`` (list), ``j_hz`` (square list of lists), optional
+    ``spins`` (default 1/2 each) and ``isotopes`` (default "1H" each).
+    """
+    if not isinstance(data, dict):
+        raise InputError(f"{record}: expected an object with shifts_hz and j_hz")
+    unknown = set(data) - {"shifts_hz", "j_hz", "spins", "isotopes", "title"}
+    if unknown:
+        raise InputError(f"{record}: unknown key(s) {', '.join(sorted(unknown))}")
+    for key in ("shifts_hz", "j_hz"):
+        if key not in data:
+            raise InputError(f"{record}: missing key {key}")
+    isotopes = data.get("isotopes")
+    if isotopes is None and isinstance(data["shifts_hz"], list):
+        isotopes = ["1H"] * len(data["shifts_hz"])
+    return SpinSystem(data["shifts_hz"], data["j_hz"], data.get("spins"), isotopes, record)
+
+
+# --------------------------------------------------------------------------- public API
+
+def lines(shifts_hz, j_hz, spins=None):
+    """Line list of a homonuclear spin system given by hand.
+
+    ``shifts_hz``: one shift per nucleus (Hz); ``j_hz``: symmetric J matrix
+    (Hz, zero diagonal); ``spins``: spin quantum numbers (default 1/2).
+    Returns ``(frequencies_hz, intensities)`` sorted by frequency, intensities
+    summing to the number of nuclei.
+    """
+    t = simulate(SpinSystem(shifts_hz, j_hz, spins, None, "spin system"), "*")
+    return np.array(t.freqs_hz), np.array(t.intensities)
+
+
+def simulate(system: SpinSystem, observe: str, decouple: tuple = (),
+             use_groups: bool = True) -> Transitions:
+    """Transitions of isotope ``observe``; nuclei of isotopes in ``decouple`` are removed.
+
+    Couplings between different isotopes act in the weak form J I_z I_z.
+    ``use_groups`` enables the composite-spin reduction of magnetically
+    equivalent groups (exact; off only to cross-check).
+    """
+    record = system.record
+    isotopes = np.array(system.isotopes, dtype=object)
+    if observe not in set(system.isotopes):
+        raise InputError(f"{record}: no nucleus of the observed isotope {observe}")
+    decouple = tuple(decouple)
+    if observe in decouple:
+        raise InputError(f"{record}: the observed isotope {observe} cannot also be decoupled")
+    keep = np.array([iso not in decouple for iso in system.isotopes])
+    idx = np.flatnonzero(keep)
+    nu = np.asarray(system.shifts_hz, dtype=float)[idx]
+    jm = np.asarray(system.j_hz, dtype=float)[np.ix_(idx, idx)]
+    spins = np.asarray(system.spins, dtype=float)[idx]
+    iso = isotopes[idx]
+    observed = iso == observe
+    # per-nucleus sum-rule value 2/3 I(I+1), averaged over the observed nuclei
+    unit = float(np.mean(2.0 / 3.0 * spins[observed] * (spins[observed] + 1.0)))
+
+    freqs, amps = [], []
+    cache: dict = {}
+    for frag in _fragments(jm):
+        if not observed[frag].any():
+            continue
+        key = (tuple(nu[frag]), tuple(map(tuple, jm[np.ix_(frag, frag)])),
+               tuple(spins[frag]), tuple(iso[frag]))
+        if key not in cache:
+            cache[key] = _fragment_lines(nu[frag], jm[np.ix_(frag, frag)], spins[frag],
+                                         iso[frag], observe, use_groups, record)
+        f, a = cache[key]
+        freqs.append(f)
+        amps.append(a)
+    f = np.concatenate(freqs)
+    a = np.concatenate(amps) / unit
+    f, a = _merge(f, a)
+    if a.size:
+        strong = a >= DROP_RELATIVE * a.max()
+        f, a = f[strong], a[strong]
+    return Transitions(f, a, observe)
+
+
+# --------------------------------------------------------------------------- reductions
+
+def _fragments(jm: np.ndarray) -> list:
+    """Connected components of the non-zero coupling graph (lists of indices)."""
+    from scipy.sparse.csgraph import connected_components
+    n = jm.shape[0]
+    graph = sp.csr_matrix(np.abs(jm) > ZERO_HZ)
+    count, labels = connected_components(graph, directed=False)
+    return [np.flatnonzero(labels == c) for c in range(count)]
+
+
+def equivalent_groups(shifts_hz, j_hz, spins, isotopes) -> list:
+    """Partition nuclei into magnetically equivalent groups.
+
+    Nuclei share a group when isotope, spin and shift are equal and their
+    couplings to every nucleus outside the group are equal (the condition of
+    magnetic equivalence, PSB 1959 sect. 6-2). Found by partition refinement:
+    start from (isotope, spin, shift) classes and split by the coupling row
+    restricted to the outside until nothing changes.
+    """
+    nu = np.asarray(shifts_hz, dtype=float)
+    jm = np.asarray(j_hz, dtype=float)
+    n = nu.size
+    q = np.round(nu / 1e-6).astype(np.int64)          # equal within ~1e-6 Hz
+    label = {}
+    cls = np.array([label.setdefault((isotopes[k], spins[k], q[k]), len(label))
+                    for k in range(n)])
+    jq = np.round(jm / 1e-6).astype(np.int64)
+    while True:
+        keys = {}
+        new = np.empty(n, dtype=int)
+        for k in range(n):
+            outside = cls != cls[k]
+            sig = (cls[k], tuple(jq[k, outside]))
+            new[k] = keys.setdefault(sig, len(keys))
+        if len(keys) == len(set(cls.tolist())):
+            break
+        cls = new
+    groups = {}
+    for k in range(n):
+        groups.setdefault(int(cls[k]), []).append(k)
+    return list(groups.values())
+
+
+def _total_spin_multiplicities(count: int, spin: float) -> list:
+    """(S, multiplicity) for ``count`` spins ``spin`` coupled to total spin S.
+
+    The number of states with total M is the coefficient of the polynomial
+    (x^-I + ... + x^I)^count; multiplicity(S) = c(M=S) - c(M=S+1)
+    (angular-momentum addition, e.g. Corio 1966, ch. 5).
+    """
+    d = int(round(2 * spin)) + 1
+    poly = np.ones(1, dtype=np.int64)
+    for _ in range(count):
+        poly = np.convolve(poly, np.ones(d, dtype=np.int64))
+    # poly[i] is the count for 2M = 2*count*spin - 2*i  (i = 0 is the top)
+    top2 = int(round(2 * count * spin))
+    out = []
+    for i in range(0, top2 // 2 + 1):
+        s2 = top2 - 2 * i
+        mult = int(poly[i] - (poly[i - 1] if i > 0 else 0))
+        if mult:
+            out.append((s2 / 2.0, mult))
+    return out
+
+
+def _fragment_lines(nu, jm, spins, iso, observe, use_groups, record):
+    """Lines of one connected fragment; intensities already divided by its dimension."""
+    n = nu.size
+    dim_real = float(np.prod(2 * spins + 1))
+    if use_groups:
+        groups = equivalent_groups(nu, jm, list(spins), list(iso))
+    else:
+        groups = [[k] for k in range(n)]
+    reps = [g[0] for g in groups]
+    options = [_total_spin_multiplicities(len(g), spins[g[0]]) for g in groups]
+    g_nu = nu[reps]
+    g_j = jm[np.ix_(reps, reps)]
+    g_iso = iso[reps]
+    freqs, amps = [], []
+    for combo in itertools.product(*options):
+        s = np.array([c[0] for c in combo])
+        weight = float(np.prod([c[1] for c in combo]))
+        present = s > 0
+        if not (present & (g_iso == observe)).any():
+            continue
+        p = np.flatnonzero(present)
+        f, a = _exact_lines(g_nu[p], g_j[np.ix_(p, p)], s[p], g_iso[p], observe, record)
+        freqs.append(f)
+        amps.append(a * weight)
+    if not freqs:
+        return np.zeros(0), np.zeros(0)
+    return np.concatenate(freqs), np.concatenate(amps) / dim_real
+
+
+# --------------------------------------------------------------------------- exact core
+
+def _block_sizes(d: np.ndarray, iso: np.ndarray) -> int:
+    """Size of the largest block when blocking by total Fz of each isotope."""
+    largest = 1
+    for name in set(iso.tolist()):
+        poly = np.ones(1, dtype=np.int64)
+        for dk in d[iso == name]:
+            poly = np.convolve(poly, np.ones(int(dk), dtype=np.int64))
+        largest *= int(poly.max())
+    return largest
+
+
+def _exact_lines(nu, jm, spins, iso, observe, record):
+    """All transitions of F-(observe) for one spin system, raw |<f|F-|i>|^2 (not scaled)."""
+    n = nu.size
+    d = np.rint(2 * spins + 1).astype(np.int64)
+    dim = int(np.prod(d))
+    if dim > MAX_STATES:
+        raise InputError(f"{record}: spin system too large to simulate exactly "
+                         f"({dim} states; limit {MAX_STATES}); split it into smaller fragments")
+    biggest = _block_sizes(d, iso)
+    if biggest > MAX_BLOCK:
+        raise InputError(f"{record}: spin system too large to simulate exactly "
+                         f"(a block of {biggest} states; limit {MAX_BLOCK}); "
+                         f"split it into smaller fragments")
+    # Zeeman offsets of each isotope are constant inside a block: remove the
+    # mean for numerical precision, add it back to the observed frequencies.
+    nu = nu.astype(float).copy()
+    obs = iso == observe
+    centre = float(nu[obs].mean())
+    for name in set(iso.tolist()):
+        sel = iso == name
+        nu[sel] -= nu[sel].mean()
+
+    stride = np.ones(n, dtype=np.int64)
+    for k in range(n - 2, -1, -1):
+        stride[k] = stride[k + 1] * d[k + 1]
+    states = np.arange(dim, dtype=np.int64)
+    digit = (states[:, None] // stride[None, :]) % d[None, :]   # 0 = highest m
+    m = spins[None, :] - digit                                  # (dim, n) float
+
+    names = sorted(set(iso.tolist()), key=lambda x: (x != observe, x))
+    # block key: total 2M per isotope, combined in mixed radix
+    key = np.zeros(dim, dtype=np.int64)
+    for name in names:
+        sel = iso == name
+        top = int(round(2 * spins[sel].sum()))
+        key = key * (2 * top + 1) + (np.rint(2 * m[:, sel].sum(axis=1)).astype(np.int64) + top)
+    obs_top = int(round(2 * spins[obs].sum()))
+    radix_rest = 1
+    for name in names[1:]:
+        radix_rest *= 2 * int(round(2 * spins[iso == name].sum())) + 1
+    # lowering the observed M by one changes 2M by -2, i.e. key by -2*radix_rest
+
+    order = np.argsort(key, kind="stable")
+    skey = key[order]
+    cuts = np.flatnonzero(np.diff(skey)) + 1
+    starts = np.concatenate(([0], cuts))
+    ends = np.concatenate((cuts, [dim]))
+    pos = np.empty(dim, dtype=np.int64)
+    blocks = {}
+    for a, b in zip(starts, ends):
+        members = order[a:b]
+        pos[members] = np.arange(b - a)
+        blocks[int(skey[a])] = members
+
+    jz = jm.copy()
+    np.fill_diagonal(jz, 0.0)
+    same = iso[:, None] == iso[None, :]
+    pairs = [(k, l) for k in range(n) for l in range(k + 1, n)
+             if same[k, l] and abs(jm[k, l]) > ZERO_HZ]
+    ii = spins * (spins + 1)
+
+    eig = {}
+    for bkey, members in blocks.items():
+        mb = m[members]
+        nb = members.size
+        h = np.zeros((nb, nb))
+        diag = mb @ nu + 0.5 * np.einsum("ij,ij->i", mb @ jz, mb)
+        h[np.arange(nb), np.arange(nb)] = diag
+        for k, l in pairs:
+            # I+_k I-_l: raise k (digit_k > 0), lower l (digit_l < d_l - 1)
+            dk = digit[members, k]
+            dl = digit[members, l]
+            ok = (dk > 0) & (dl < d[l] - 1)
+            if not ok.any():
+                continue
+            src = members[ok]
+            dst = src - stride[k] + stride[l]
+            mk = mb[ok, k]
+            ml = mb[ok, l]
+            val = 0.5 * jm[k, l] * np.sqrt((ii[k] - mk * (mk + 1)) * (ii[l] - ml * (ml - 1)))
+            r, c = pos[dst], pos[src]
+            h[r, c] += val
+            h[c, r] += val
+        w, v = np.linalg.eigh(h)
+        eig[bkey] = (w, v)
+
+    obs_idx = np.flatnonzero(obs)
+    freqs, amps = [], []
+    for bkey, members in blocks.items():
+        tkey = bkey - 2 * radix_rest
+        if tkey not in blocks:
+            continue
+        # the observed 2M must stay within range: blocks with the same rest
+        # and observed 2M lower by 2 share key - 2*radix_rest
+        target = blocks[tkey]
+        mb = m[members]
+        rows, cols, vals = [], [], []
+        for k in obs_idx:
+            ok = digit[members, k] < d[k] - 1
+            if not ok.any():
+                continue
+            src = members[ok]
+            mk = mb[ok, k]
+            rows.append(pos[src + stride[k]])
+            cols.append(pos[src])
+            vals.append(np.sqrt(ii[k] - mk * (mk - 1)))
+        if not rows:
+            continue
+        t = sp.csr_matrix((np.concatenate(vals), (np.concatenate(rows), np.concatenate(cols))),
+                          shape=(target.size, members.size))
+        wi, vi = eig[bkey]
+        wf, vf = eig[tkey]
+        amp = vf.T @ (t @ vi)
+        inten = amp * amp
+        big = inten > 1e-3 * DROP_RELATIVE * inten.max()
+        r, c = np.nonzero(big)
+        freqs.append(wi[c] - wf[r] + centre)
+        amps.append(inten[r, c])
+    if not freqs:
+        return np.zeros(0), np.zeros(0)
+    return np.concatenate(freqs), np.concatenate(amps)
+
+
+def _merge(f: np.ndarray, a: np.ndarray, tol: float = MERGE_HZ):
+    """Sort lines and merge neighbours closer than ``tol`` Hz (intensity-weighted position)."""
+    if f.size == 0:
+        return f, a
+    order = np.argsort(f, kind="stable")
+    f, a = f[order], a[order]
+    start = np.concatenate(([0], np.flatnonzero(np.diff(f) > tol) + 1))
+    total = np.add.reduceat(a, start)
+    moment = np.add.reduceat(a * f, start)
+    safe = np.where(total > 0, total, 1.0)
+    pos = np.where(total > 0, moment / safe, f[start])
+    return pos, total

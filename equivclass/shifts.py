@@ -1,0 +1,1000 @@
+"""Chemical-shift estimates for 1H, 13C, 19F and 31P from published additive methods.
+
+Rules (tables with their sources in ``equivclass.data``, files ``shifts_*.csv``):
+
+* 1H on sp3 carbon: base (CH3 0.86, CH2 1.37, CH 1.50) + alpha increments of the groups on the
+  carbon + beta increments of groups on neighbouring sp3 carbons (Shoolery-type additivity, tables
+  for CH3/CH2/CH as in Pretsch et al. and Silverstein et al.).
+* 1H on C=C: 5.25 + Z(gem) + Z(cis) + Z(trans) (Pascual, Meier & Simon 1966).
+* 1H on aromatic rings: base value of the ring position (benzene, naphthalene, heteroaromatics)
+  + benzene ortho/meta/para increments of the ring substituents.
+* Aldehydes, alkynes, imines, labile O-H/N-H/S-H: class base values.
+* 13C: Grant-Paul alkane rule + substituent increments; benzene increments; alkene increments;
+  carbonyl / nitrile / alkyne base values.
+* 19F and 31P: group base values chosen by the atoms bonded to the nucleus.
+
+Every estimate depends only on constitution, bond orders and (for cis/trans on C=C) the double-bond
+configuration, so symmetry-equivalent atoms receive equal estimates. Estimates, not measurements.
+"""
+
+from __future__ import annotations
+
+import csv
+from dataclasses import dataclass
+from importlib import resources
+from pathlib import Path
+
+from rdkit import Chem
+
+__all__ = ["ShiftEstimate", "estimate"]
+
+
+@dataclass(frozen=True)
+class ShiftEstimate:
+    """An estimated shift (ppm) and the rule that produced it."""
+
+    ppm: float
+    basis: str
+
+
+# --------------------------------------------------------------------------- tables
+
+
+def _rows(name: str) -> list[dict[str, str]]:
+    try:
+        text = resources.files("equivclass.data").joinpath(name).read_text(encoding="utf-8")
+    except ModuleNotFoundError:  # source checkout that is not installed
+        text = (Path(__file__).resolve().parent.parent / "data" / name).read_text(encoding="utf-8")
+    lines = [ln for ln in text.splitlines() if ln.strip() and not ln.lstrip().startswith("#")]
+    return list(csv.DictReader(lines))
+
+
+def _num(s: str | None) -> float | None:
+    return float(s) if s not in (None, "") else None
+
+
+_H_ALKYL = {r["group"]: (float(r["alpha_ch3"]), float(r["alpha_ch2"]), float(r["alpha_ch"]),
+                         float(r["beta"])) for r in _rows("shifts_1h_alkyl.csv")}
+_H_ALKENE = {r["group"]: (float(r["gem"]), float(r["cis"]), float(r["trans"]))
+             for r in _rows("shifts_1h_alkene.csv")}
+_H_BENZENE = {r["group"]: (float(r["ortho"]), float(r["meta"]), float(r["para"]))
+              for r in _rows("shifts_1h_benzene.csv")}
+_H_BASE = {r["key"]: float(r["shift_ppm"]) for r in _rows("shifts_1h_base.csv")}
+_C_ALKANE = {r["param"]: float(r["value"]) for r in _rows("shifts_13c_alkane.csv")}
+_C_SUBST = {}
+for _r in _rows("shifts_13c_substituent.csv"):
+    _an, _bn = float(_r["alpha_n"]), float(_r["beta_n"])
+    _ai, _bi = _num(_r["alpha_iso"]), _num(_r["beta_iso"])
+    _C_SUBST[_r["group"]] = (_an, _an if _ai is None else _ai, _bn, _bn if _bi is None else _bi,
+                             float(_r["gamma"]))
+_C_BENZENE = {r["group"]: (float(r["ipso"]), float(r["ortho"]), float(r["meta"]), float(r["para"]))
+              for r in _rows("shifts_13c_benzene.csv")}
+_C_BASE = {r["key"]: float(r["shift_ppm"]) for r in _rows("shifts_13c_base.csv")}
+_C_ALKENE = {r["group"]: (float(r["z1"]), float(r["z2"])) for r in _rows("shifts_13c_alkene.csv")}
+_F_BASE = {r["key"]: float(r["shift_ppm"]) for r in _rows("shifts_19f.csv")}
+_P_BASE = {r["key"]: float(r["shift_ppm"]) for r in _rows("shifts_31p.csv")}
+
+# A fine group class falls back to a coarser one when a table has no row for it (rule logic).
+_FALLBACK = {
+    "CH3": "alkyl", "tBu": "alkyl", "CH2O": "alkyl", "CH2N": "alkyl", "CH2S": "alkyl",
+    "CH2Cl": "alkyl", "CH2I": "CH2Cl", "CH2Ar": "alkyl", "CH2C=O": "alkyl", "alkyl-ring": "alkyl",
+    "NH2": "NR2", "NAr": "NR2", "OAr": "OR", "OC(O)Ar": "OC(O)R", "C(O)Ar": "C(O)R",
+    "COO-": "COOH", "O-": "OH", "SO2Cl": "SO2R", "P+": "P", "P(O)": "P", "C=N": "alkenyl",
+    "OP": "OC(O)R", "OS": "OC(O)R", "OSi": "OR", "NSO2": "NC(O)R",
+}
+
+_UNSATURATED = {"aryl", "alkenyl", "alkynyl", "C(O)R", "C(O)Ar", "CHO", "COOR", "COOH", "C(O)N",
+                "CN", "COCl", "NO2"}
+
+
+def _lookup(table: dict, key: str):
+    k = key
+    while k is not None:
+        if k in table:
+            return k, table[k]
+        k = _FALLBACK.get(k)
+    return None, None
+
+
+# --------------------------------------------------------------------------- group classes
+
+
+def _is_h(atom) -> bool:
+    return atom.GetAtomicNum() == 1
+
+
+def _bond_order(mol, i: int, j: int) -> float:
+    b = mol.GetBondBetweenAtoms(i, j)
+    return b.GetBondTypeAsDouble() if b is not None else 0.0
+
+
+def _is_sp3_carbon(atom) -> bool:
+    if atom.GetAtomicNum() != 6 or atom.GetIsAromatic():
+        return False
+    return all(b.GetBondType() == Chem.BondType.SINGLE for b in atom.GetBonds())
+
+
+def _has_double_o(mol, atom, exclude: int = -1) -> bool:
+    for b in atom.GetBonds():
+        o = b.GetOtherAtom(atom)
+        if o.GetIdx() != exclude and o.GetAtomicNum() == 8 and b.GetBondType() == Chem.BondType.DOUBLE:
+            return True
+    return False
+
+
+def _carbonyl_class(mol, a, t: int) -> str:
+    """Class of an acyl group C(=O)X attached through its carbon ``a`` to atom ``t``."""
+    others = [n for n in a.GetNeighbors() if n.GetIdx() != t
+              and not (n.GetAtomicNum() == 8 and _bond_order(mol, a.GetIdx(), n.GetIdx()) == 2.0)]
+    if not others or all(_is_h(n) for n in others):
+        return "CHO"
+    x = others[0]
+    z = x.GetAtomicNum()
+    if z == 8:
+        if x.GetFormalCharge() < 0:
+            return "COO-"
+        return "COOH" if any(_is_h(n) for n in x.GetNeighbors()) else "COOR"
+    if z == 7:
+        return "C(O)N"
+    if z == 17:
+        return "COCl"
+    if z == 6:
+        return "C(O)Ar" if x.GetIsAromatic() else "C(O)R"
+    return "C(O)R"
+
+
+def _group(mol, a, t: int) -> str:
+    """Substituent class of the group entered through atom ``a`` from atom index ``t``."""
+    z = a.GetAtomicNum()
+    ai = a.GetIdx()
+    if z == 1:
+        return "H"
+    if z in (9, 17, 35, 53):
+        return {9: "F", 17: "Cl", 35: "Br", 53: "I"}[z]
+    if z == 6:
+        if a.GetIsAromatic():
+            return "aryl"
+        nbrs = [n for n in a.GetNeighbors() if n.GetIdx() != t]
+        for b in a.GetBonds():
+            o = b.GetOtherAtom(a)
+            if b.GetBondType() == Chem.BondType.TRIPLE:
+                return "CN" if o.GetAtomicNum() == 7 else "alkynyl"
+        if _has_double_o(mol, a):
+            return _carbonyl_class(mol, a, t)
+        for b in a.GetBonds():
+            if b.GetBondType() == Chem.BondType.DOUBLE:
+                return "C=N" if b.GetOtherAtom(a).GetAtomicNum() == 7 else "alkenyl"
+        # sp3 carbon: refine by what it carries
+        zs = [n.GetAtomicNum() for n in nbrs]
+        if zs.count(9) == 3:
+            return "CF3"
+        nh = zs.count(1)
+        if nh == 3:
+            return "CH3"
+        heavy = [n for n in nbrs if not _is_h(n)]
+        if nh == 0 and len(heavy) == 3 and all(_is_sp3_carbon(n) for n in heavy):
+            return "tBu"
+        for n in heavy:
+            if n.GetAtomicNum() == 8:
+                return "CH2O"
+        for n in heavy:
+            if n.GetAtomicNum() == 7:
+                return "CH2N"
+        for n in heavy:
+            if n.GetAtomicNum() == 16:
+                return "CH2S"
+        for n in heavy:
+            if n.GetAtomicNum() in (17, 35):
+                return "CH2Cl"
+            if n.GetAtomicNum() == 53:
+                return "CH2I"
+        for n in heavy:
+            if n.GetIsAromatic():
+                return "CH2Ar"
+        for n in heavy:
+            g = _group(mol, n, ai) if n.GetAtomicNum() == 6 and not _is_sp3_carbon(n) else ""
+            if g in ("C(O)R", "C(O)Ar", "CHO", "COOR", "COOH", "C(O)N", "CN", "COO-"):
+                return "CH2C=O"
+        return "alkyl"
+    if z == 8:
+        if a.GetFormalCharge() < 0:
+            return "O-"
+        nbrs = [n for n in a.GetNeighbors() if n.GetIdx() != t]
+        if any(_is_h(n) for n in nbrs):
+            return "OH"
+        x = next((n for n in nbrs), None)
+        if x is None:
+            return "O-"
+        zx = x.GetAtomicNum()
+        if zx == 6:
+            if x.GetIsAromatic():
+                return "OAr"
+            if _has_double_o(mol, x):
+                cls = _carbonyl_class(mol, x, ai)
+                return "OC(O)Ar" if cls == "C(O)Ar" else "OC(O)R"
+            return "OR"
+        if zx == 15:
+            return "OP"
+        if zx == 16:
+            return "OS"
+        if zx == 14:
+            return "OSi"
+        return "OR"
+    if z == 7:
+        nbrs = [n for n in a.GetNeighbors() if n.GetIdx() != t]
+        if sum(1 for n in nbrs if n.GetAtomicNum() == 8) >= 2:
+            return "NO2"
+        if a.GetFormalCharge() > 0 and a.GetDegree() == 4:
+            return "N+"
+        if any(b.GetBondType() != Chem.BondType.SINGLE for b in a.GetBonds()):
+            return "N="
+        for n in nbrs:
+            if n.GetAtomicNum() == 6 and _has_double_o(mol, n):
+                return "NC(O)R"
+            if n.GetAtomicNum() == 16 and _has_double_o(mol, n):
+                return "NSO2"
+        if any(n.GetIsAromatic() for n in nbrs):
+            return "NAr"
+        if sum(1 for n in nbrs if _is_h(n)) == 2:
+            return "NH2"
+        return "NR2"
+    if z == 16:
+        ndo = sum(1 for b in a.GetBonds() if b.GetBondType() == Chem.BondType.DOUBLE
+                  and b.GetOtherAtom(a).GetAtomicNum() == 8)
+        if ndo >= 2 or (ndo == 1 and a.GetDegree() == 4):
+            if any(n.GetAtomicNum() == 17 for n in a.GetNeighbors()):
+                return "SO2Cl"
+            return "SO2R"
+        if ndo == 1 or (a.GetFormalCharge() > 0 and a.GetDegree() == 3):
+            return "S(O)R"
+        if any(_is_h(n) for n in a.GetNeighbors()):
+            return "SH"
+        return "SR"
+    if z == 15:
+        if a.GetFormalCharge() > 0:
+            return "P+"
+        if _has_double_o(mol, a) or any(n.GetAtomicNum() == 8 and n.GetFormalCharge() < 0
+                                        for n in a.GetNeighbors()):
+            return "P(O)"
+        return "P"
+    if z == 14:
+        return "Si"
+    return a.GetSymbol()
+
+
+def _fmt(keys: list[str]) -> str:
+    return ", ".join(sorted(keys))
+
+
+# --------------------------------------------------------------------------- 1H rules
+
+
+def _h_sp3(mol, c) -> ShiftEstimate:
+    ci = c.GetIdx()
+    heavy = [n for n in c.GetNeighbors() if not _is_h(n)]
+    nh = c.GetTotalNumHs(includeNeighbors=True)
+    if nh == 4 or (not heavy and nh >= 3):
+        return ShiftEstimate(_H_BASE["CH4"], "methane base value")
+    kind = {3: "CH3", 2: "CH2"}.get(nh, "CH")
+    col = {"CH3": 0, "CH2": 1, "CH": 2}[kind]
+    terms: list[float] = [_H_BASE[kind]]
+    alpha_names: list[str] = []
+    beta_names: list[str] = []
+    missing: list[str] = []
+    for a in heavy:
+        g = _group(mol, a, ci)
+        k, row = _lookup(_H_ALKYL, g)
+        if row is None:
+            missing.append(g)
+            continue
+        terms.append(row[col])
+        if k != "alkyl":
+            alpha_names.append(k)
+        if k == "alkyl":  # beta increments through an sp3 carbon neighbour
+            ai = a.GetIdx()
+            for b in a.GetNeighbors():
+                if b.GetIdx() == ci or _is_h(b):
+                    continue
+                gb = _group(mol, b, ai)
+                kb, rowb = _lookup(_H_ALKYL, gb)
+                if rowb is None:
+                    missing.append(gb)
+                    continue
+                if kb != "alkyl":
+                    terms.append(rowb[3])
+                    beta_names.append(kb)
+    ring = ""
+    if mol.GetRingInfo().IsAtomInRingOfSize(ci, 3):
+        terms.append(_H_BASE["ring3"])
+        ring = "; three-membered ring"
+    parts = []
+    if alpha_names:
+        parts.append(_fmt(alpha_names))
+    if beta_names:
+        parts.append("beta " + _fmt(beta_names))
+    detail = "; ".join(parts) if parts else "alkyl only"
+    note = f"; no increment for {_fmt(missing)}" if missing else ""
+    return ShiftEstimate(_sum(terms), f"{kind}: Shoolery-type increments ({detail}){ring}{note}")
+
+
+def _sum(terms: list[float]) -> float:
+    return round(sum(sorted(terms)), 2)
+
+
+def _cis(mol, h: int, c1, c2, s: int, bond) -> bool | None:
+    """True if atom ``s`` on ``c2`` is cis to atom ``h`` on ``c1`` across the double bond c1=c2."""
+    c1i, c2i = c1.GetIdx(), c2.GetIdx()
+    ri = mol.GetRingInfo()
+    # small rings fix the geometry: ring neighbours of both ends are cis to each other
+    if bond.IsInRing():
+        for ring in ri.AtomRings():
+            if len(ring) <= 7 and c1i in ring and c2i in ring:
+                s_in = s in ring
+                h_in = h in ring
+                if s_in != h_in:
+                    return False
+                if s_in and h_in:
+                    return True
+    st = bond.GetStereo()
+    if st in (Chem.BondStereo.STEREOZ, Chem.BondStereo.STEREOE, Chem.BondStereo.STEREOCIS,
+              Chem.BondStereo.STEREOTRANS):
+        sa = list(bond.GetStereoAtoms())
+        if len(sa) == 2:
+            same = st in (Chem.BondStereo.STEREOZ, Chem.BondStereo.STEREOCIS)
+            if bond.GetBeginAtomIdx() != c1i:
+                sa = [sa[1], sa[0]]
+            flip = (h != sa[0]) ^ (s != sa[1])
+            return same ^ flip
+    if mol.GetNumConformers():
+        from rdkit.Chem import rdMolTransforms
+        conf = mol.GetConformer()
+        try:
+            d = rdMolTransforms.GetDihedralDeg(conf, h, c1i, c2i, s)
+        except (RuntimeError, ValueError):
+            return None
+        if (conf.GetAtomPosition(c1i) - conf.GetAtomPosition(c2i)).Length() < 0.1:
+            return None  # no usable coordinates
+        return abs(d) < 90.0
+    return None
+
+
+def _alkene_group(mol, a, t: int, c1, c2, other_keys: list[str]) -> str:
+    g = _group(mol, a, t)
+    if g in ("CH3", "alkyl", "tBu"):
+        ri = mol.GetRingInfo()
+        if ri.NumAtomRings(a.GetIdx()) and any(
+                a.GetIdx() in r and c1.GetIdx() in r and c2.GetIdx() in r for r in ri.AtomRings()):
+            return "alkyl-ring"
+    if g in ("alkenyl", "C(O)R", "C(O)Ar", "COOH", "COOR", "OR", "NR2", "NAr", "NH2"):
+        if any(k in _UNSATURATED for k in other_keys):
+            base = _lookup(_H_ALKENE, g)[0] or g
+            if base + "-conj" in _H_ALKENE:
+                return base + "-conj"
+    return g
+
+
+def _h_alkene(mol, h: int, c1, c2, bond) -> ShiftEstimate:
+    c1i, c2i = c1.GetIdx(), c2.GetIdx()
+    gem = [n for n in c1.GetNeighbors() if n.GetIdx() not in (h, c2i)]
+    far = [n for n in c2.GetNeighbors() if n.GetIdx() != c1i]
+    gem_idx = {n.GetIdx() for n in gem}
+    raw = {n.GetIdx(): _group(mol, n, c1i if n.GetIdx() in gem_idx else c2i) for n in gem + far}
+    terms = [_H_BASE["alkene"]]
+    names: list[str] = []
+    missing: list[str] = []
+    unresolved = False
+    for n in gem + far:
+        others = [raw[m.GetIdx()] for m in gem + far if m.GetIdx() != n.GetIdx()]
+        on_c1 = n.GetIdx() in gem_idx
+        g = _alkene_group(mol, n, c1i if on_c1 else c2i, c1, c2, others)
+        if g == "H":
+            continue
+        k, row = _lookup(_H_ALKENE, g)
+        if row is None:
+            missing.append(g)
+            continue
+        if on_c1:
+            terms.append(row[0])
+            names.append(f"gem-{k}")
+            continue
+        cis = _cis(mol, h, c1, c2, n.GetIdx(), bond)
+        if cis is None:
+            unresolved = True
+            terms.append((row[1] + row[2]) / 2.0)
+            names.append(f"cis/trans-{k}")
+        else:
+            terms.append(row[1] if cis else row[2])
+            names.append(("cis-" if cis else "trans-") + k)
+    note = "; cis/trans not resolved, mean used" if unresolved else ""
+    if missing:
+        note += f"; no increment for {_fmt(missing)}"
+    detail = _fmt(names) if names else "none"
+    return ShiftEstimate(_sum(terms), f"alkene: Pascual-Meier-Simon increments ({detail}){note}")
+
+
+# aromatic rings ------------------------------------------------------------
+
+
+def _ring_symbol(mol, atom, ring: tuple[int, ...]) -> str:
+    z = atom.GetAtomicNum()
+    if z == 6:
+        ri = mol.GetRingInfo()
+        for b in atom.GetBonds():
+            o = b.GetOtherAtomIdx(atom.GetIdx())
+            if o not in ring and b.IsInRing() and mol.GetAtomWithIdx(o).GetIsAromatic():
+                # fused to another aromatic ring: size of the smallest aromatic ring through that bond
+                sizes = [len(r) for r in ri.AtomRings()
+                         if o in r and atom.GetIdx() in r and r != ring]
+                return "g" if sizes and min(sizes) == 5 else "f"
+        return "c"
+    if z == 7:
+        return "N" if atom.GetDegree() == 3 else "n"
+    return atom.GetSymbol().lower()
+
+
+def _ring_key(mol, ci: int, ring: tuple[int, ...]) -> str:
+    n = len(ring)
+    p = ring.index(ci)
+    fwd = [ring[(p + k) % n] for k in range(n)]
+    rev = [ring[(p - k) % n] for k in range(n)]
+    sym = {i: _ring_symbol(mol, mol.GetAtomWithIdx(i), ring) for i in ring}
+    return min("".join(sym[i] for i in fwd), "".join(sym[i] for i in rev))
+
+
+def _aromatic_ring(mol, ci: int):
+    rings = [r for r in mol.GetRingInfo().AtomRings()
+             if ci in r and all(mol.GetAtomWithIdx(i).GetIsAromatic() for i in r)]
+    if not rings:
+        return None
+    rings.sort(key=lambda r: (len(r), _ring_key(mol, ci, r)))
+    return rings[0]
+
+
+def _build_ring_table() -> dict[str, tuple[str, float, float]]:
+    table: dict[str, tuple[str, float, float]] = {}
+    for r in _rows("shifts_aromatic_rings.csv"):
+        m = Chem.AddHs(Chem.MolFromSmiles(r["smiles"]))
+        idx = next(a.GetIdx() for a in m.GetAtoms() if a.GetAtomMapNum() == 1)
+        for a in m.GetAtoms():
+            a.SetAtomMapNum(0)
+        ring = _aromatic_ring(m, idx)
+        h = float(r["shift_1h"]) if r["shift_1h"] else None
+        table[_ring_key(m, idx, ring)] = (r["name"], h, float(r["shift_13c"]))
+    return table
+
+
+_RINGS = _build_ring_table()
+
+
+def _ring_substituents(mol, ci: int, ring: tuple[int, ...]):
+    """(distance along ring, group class) for every non-H, non-fused substituent of the ring."""
+    n = len(ring)
+    p = ring.index(ci)
+    out = []
+    for k, ri_ in enumerate(ring):
+        d = min((k - p) % n, (p - k) % n)
+        atom = mol.GetAtomWithIdx(ri_)
+        for b in atom.GetBonds():
+            o = b.GetOtherAtom(atom)
+            if o.GetIdx() in ring or _is_h(o):
+                continue
+            if b.IsInRing() and o.GetIsAromatic():
+                continue  # fused aromatic ring: part of the ring base value
+            if o.GetAtomicNum() == 8 and b.GetBondType() == Chem.BondType.DOUBLE:
+                continue
+            out.append((d, _group(mol, o, ri_)))
+    return out
+
+
+_POS = {1: "o", 2: "m", 3: "p"}
+
+
+def _aromatic(mol, ci: int, isotope: str) -> ShiftEstimate:
+    ring = _aromatic_ring(mol, ci)
+    key = _ring_key(mol, ci, ring)
+    hit = _RINGS.get(key)
+    if hit is None:
+        name, base = "benzene (ring type not tabulated)", (_RINGS["cccccc"][1], _RINGS["cccccc"][2])
+    else:
+        name, base = hit[0], (hit[1], hit[2])
+    table = _H_BENZENE if isotope == "1H" else _C_BENZENE
+    terms = [base[0] if isotope == "1H" else base[1]]
+    names: list[str] = []
+    missing: list[str] = []
+    for d, g in _ring_substituents(mol, ci, ring):
+        if isotope == "1H" and d == 0:
+            continue
+        k, row = _lookup(table, g)
+        if row is None:
+            missing.append(g)
+            continue
+        if isotope == "1H":
+            terms.append(row[d - 1])
+            names.append(f"{_POS[d]}-{k}")
+        else:
+            terms.append(row[d])
+            names.append(f"{'i' if d == 0 else _POS[d]}-{k}")
+    what = "benzene increments" if name == "benzene" else f"{name} base value + benzene increments"
+    detail = f" ({_fmt(names)})" if names else ""
+    if not names:
+        what = f"{name} base value"
+    note = f"; no increment for {_fmt(missing)}" if missing else ""
+    return ShiftEstimate(_sum(terms), f"{what}{detail}{note}")
+
+
+# other 1H classes ----------------------------------------------------------
+
+
+def _base(key: str, basis: str) -> ShiftEstimate:
+    return ShiftEstimate(_H_BASE[key], basis)
+
+
+def _h_aldehyde(mol, c) -> ShiftEstimate:
+    ci = c.GetIdx()
+    others = [n for n in c.GetNeighbors() if not _is_h(n)
+              and not (n.GetAtomicNum() == 8 and _bond_order(mol, ci, n.GetIdx()) == 2.0)]
+    if not others:
+        return _base("formaldehyde", "formaldehyde base value")
+    x = others[0]
+    if x.GetAtomicNum() == 8:
+        return _base("formate", "formate H-C(=O)O base value")
+    if x.GetAtomicNum() == 7:
+        return _base("formamide", "formamide H-C(=O)N base value")
+    if x.GetIsAromatic():
+        return _base("aldehyde-aryl", "aromatic aldehyde base value")
+    g = _group(mol, x, ci)
+    if g in ("alkenyl", "alkynyl"):
+        return _base("aldehyde-conj", "conjugated aldehyde base value")
+    return _base("aldehyde-alkyl", "aliphatic aldehyde base value")
+
+
+def _h_labile(mol, x) -> ShiftEstimate:
+    z = x.GetAtomicNum()
+    xi = x.GetIdx()
+    heavy = [n for n in x.GetNeighbors() if not _is_h(n)]
+    if z == 8:
+        if not heavy:
+            return _base("water", "water base value (CDCl3)")
+        y = heavy[0]
+        if y.GetAtomicNum() == 6:
+            if _has_double_o(mol, y):
+                return _base("OH-acid", "labile O-H base value (carboxylic acid)")
+            if y.GetIsAromatic():
+                return _base("OH-phenol", "labile O-H base value (phenol)")
+            if any(b.GetBondType() == Chem.BondType.DOUBLE for b in y.GetBonds()):
+                return _base("OH-enol", "labile O-H base value (enol)")
+            return _base("OH-alcohol", "labile O-H base value (alcohol)")
+        if y.GetAtomicNum() == 7:
+            return _base("OH-oxime", "labile O-H base value (oxime / N-OH)")
+        if y.GetAtomicNum() in (15, 16):
+            return _base("OH-oxyacid", "labile O-H base value (P/S oxyacid)")
+        return _base("OH-alcohol", "labile O-H base value (alcohol)")
+    if z == 7:
+        if x.GetFormalCharge() > 0:
+            return _base("NH-ammonium", "labile N-H base value (ammonium)")
+        if x.GetIsAromatic():
+            return _base("NH-heteroaromatic", "labile N-H base value (pyrrole-type)")
+        acyl = [n for n in heavy if n.GetAtomicNum() == 6 and _has_double_o(mol, n)]
+        if acyl:
+            if any(n.GetIsAromatic() for n in heavy):
+                return _base("NH-anilide", "labile N-H base value (N-aryl amide)")
+            return _base("NH-amide", "labile N-H base value (amide)")
+        if any(n.GetAtomicNum() == 16 and _has_double_o(mol, n) for n in heavy):
+            return _base("NH-sulfonamide", "labile N-H base value (sulfonamide)")
+        if any(n.GetIsAromatic() for n in heavy):
+            return _base("NH-arylamine", "labile N-H base value (aromatic amine)")
+        return _base("NH-amine", "labile N-H base value (aliphatic amine)")
+    if z == 16:
+        if any(n.GetIsAromatic() for n in heavy):
+            return _base("SH-aryl", "labile S-H base value (arenethiol)")
+        return _base("SH-alkyl", "labile S-H base value (alkanethiol)")
+    return _NO_RULE
+
+
+def _h_alkyne(mol, c, partner) -> ShiftEstimate:
+    far = [n for n in partner.GetNeighbors() if n.GetIdx() != c.GetIdx()]
+    if not far or _is_h(far[0]):
+        return _base("alkyne-H", "acetylene base value")
+    g = _group(mol, far[0], partner.GetIdx())
+    if g == "aryl":
+        return _base("alkyne-aryl", "aryl-C#C-H base value")
+    if g in ("C(O)R", "C(O)Ar", "CHO", "COOR", "COOH", "C(O)N"):
+        return _base("alkyne-conj", "acyl-C#C-H base value")
+    return _base("alkyne-alkyl", "alkyl-C#C-H base value")
+
+
+def _estimate_1h(mol, h) -> ShiftEstimate:
+    nbrs = list(h.GetNeighbors())
+    if len(nbrs) != 1:
+        return _NO_RULE
+    x = nbrs[0]
+    z = x.GetAtomicNum()
+    if z in (7, 8, 16):
+        return _h_labile(mol, x)
+    if z != 6:
+        return _NO_RULE
+    if x.GetIsAromatic():
+        return _aromatic(mol, x.GetIdx(), "1H")
+    if _is_sp3_carbon(x):
+        return _h_sp3(mol, x)
+    xi = x.GetIdx()
+    doubles = [b for b in x.GetBonds() if b.GetBondType() == Chem.BondType.DOUBLE]
+    triples = [b for b in x.GetBonds() if b.GetBondType() == Chem.BondType.TRIPLE]
+    if triples:
+        p = triples[0].GetOtherAtom(x)
+        return _h_alkyne(mol, x, p) if p.GetAtomicNum() == 6 else _NO_RULE
+    if len(doubles) == 1:
+        b = doubles[0]
+        p = b.GetOtherAtom(x)
+        if p.GetAtomicNum() == 8:
+            return _h_aldehyde(mol, x)
+        if p.GetAtomicNum() == 7:
+            return _base("imine", "imine CH=N base value")
+        if p.GetAtomicNum() == 6:
+            if any(pb.GetBondType() == Chem.BondType.DOUBLE and pb.GetIdx() != b.GetIdx()
+                   for pb in p.GetBonds()):
+                return _base("allene", "allene base value")
+            return _h_alkene(mol, h.GetIdx(), x, p, b)
+    return _NO_RULE
+
+
+# --------------------------------------------------------------------------- 13C rules
+
+
+def _c_type(atom) -> int:
+    return sum(1 for n in atom.GetNeighbors() if _is_sp3_carbon(n))
+
+
+def _c_sp3(mol, c) -> ShiftEstimate:
+    ci = c.GetIdx()
+    # Grant-Paul: sp3 carbons by bond distance through the sp3-carbon skeleton
+    dist = {ci: 0}
+    frontier = [c]
+    counts = [0] * 6
+    while frontier:
+        nxt = []
+        for a in frontier:
+            d = dist[a.GetIdx()]
+            if d >= 5:
+                continue
+            for n in a.GetNeighbors():
+                if n.GetIdx() not in dist and _is_sp3_carbon(n):
+                    dist[n.GetIdx()] = d + 1
+                    counts[d + 1] += 1
+                    nxt.append(n)
+        frontier = nxt
+    p = _C_ALKANE
+    terms = [p["base"], p["alpha"] * counts[1], p["beta"] * counts[2], p["gamma"] * counts[3],
+             p["delta"] * counts[4], p["epsilon"] * counts[5]]
+    tc = _c_type(c)
+    for n in c.GetNeighbors():
+        if _is_sp3_carbon(n):
+            key = f"corr_{max(tc, 1)}_{max(_c_type(n), 1)}"
+            if key in p:
+                terms.append(p[key])
+    names: list[str] = []
+    missing: list[str] = []
+    for ai, d in dist.items():
+        if d > 2:
+            continue
+        a = mol.GetAtomWithIdx(ai)
+        iso = _c_type(a) > 1
+        for n in a.GetNeighbors():
+            if _is_h(n) or n.GetIdx() in dist or _is_sp3_carbon(n):
+                continue
+            g = _group(mol, n, ai)
+            k, row = _lookup(_C_SUBST, g)
+            if row is None:
+                missing.append(g)
+                continue
+            if d == 0:
+                terms.append(row[1] if iso else row[0])
+                names.append(k)
+            elif d == 1:
+                terms.append(row[3] if iso else row[2])
+                names.append(f"beta-{k}")
+            else:
+                terms.append(row[4])
+                names.append(f"gamma-{k}")
+    detail = f"; substituents {_fmt(names)}" if names else ""
+    note = f"; no increment for {_fmt(missing)}" if missing else ""
+    return ShiftEstimate(round(sum(sorted(terms)), 1),
+                         f"sp3 C: Grant-Paul alkane rule{detail}{note}")
+
+
+def _c_alkene(mol, c, p) -> ShiftEstimate:
+    b = _C_BASE
+    terms = [b["alkene"]]
+    names: list[str] = []
+    missing: list[str] = []
+    ci, pi = c.GetIdx(), p.GetIdx()
+    for side, atom, prefix in ((0, c, ""), (1, p, "far-")):
+        for n in atom.GetNeighbors():
+            if n.GetIdx() in (ci, pi) or _is_h(n):
+                continue
+            if _is_sp3_carbon(n):
+                # alkyl: alpha, beta, gamma sp3 carbons along the chain
+                seen = {ci, pi, n.GetIdx()}
+                layer = [n]
+                for w in ("alpha", "beta", "gamma"):
+                    key = f"alkene_{w}" + ("_far" if side else "")
+                    terms.append(b[key] * len(layer))
+                    nxt = []
+                    for a in layer:
+                        for m in a.GetNeighbors():
+                            if m.GetIdx() not in seen and _is_sp3_carbon(m):
+                                seen.add(m.GetIdx())
+                                nxt.append(m)
+                    layer = nxt
+                names.append(prefix + "alkyl")
+                continue
+            g = _group(mol, n, atom.GetIdx())
+            k, row = _lookup(_C_ALKENE, g)
+            if row is None:
+                missing.append(g)
+                continue
+            terms.append(row[side])
+            names.append(prefix + k)
+    note = f"; no increment for {_fmt(missing)}" if missing else ""
+    return ShiftEstimate(round(sum(sorted(terms)), 1),
+                         f"alkene C: additive increments ({_fmt(names) or 'none'}){note}")
+
+
+def _c_carbonyl(mol, c) -> ShiftEstimate:
+    ci = c.GetIdx()
+    others = [n for n in c.GetNeighbors()
+              if not (n.GetAtomicNum() == 8 and _bond_order(mol, ci, n.GetIdx()) == 2.0)]
+    heavy = [n for n in others if not _is_h(n)]
+    zs = sorted(n.GetAtomicNum() for n in heavy)
+    aryl = any(n.GetIsAromatic() or _group(mol, n, ci) in ("alkenyl",) for n in heavy
+               if n.GetAtomicNum() == 6)
+    if len(heavy) < len(others):  # C-H
+        if heavy and heavy[0].GetAtomicNum() in (7, 8):
+            key = "formyl-heteroatom"
+        else:
+            key = "aldehyde-aryl" if aryl else "aldehyde"
+    elif zs.count(8) == 2 or (7 in zs and 8 in zs):
+        key = "carbonate"
+    elif zs.count(7) == 2:
+        key = "urea"
+    elif 7 in zs:
+        key = "amide"
+    elif 17 in zs:
+        key = "acid-chloride"
+    elif 8 in zs:
+        o = next(n for n in heavy if n.GetAtomicNum() == 8)
+        acid = o.GetFormalCharge() < 0 or any(_is_h(n) for n in o.GetNeighbors())
+        key = ("acid" if acid else "ester") + ("-aryl" if aryl else "")
+    else:
+        key = "ketone-aryl" if aryl else "ketone"
+    return ShiftEstimate(_C_BASE[key], f"carbonyl C base value ({key})")
+
+
+def _estimate_13c(mol, c) -> ShiftEstimate:
+    if c.GetIsAromatic():
+        ring = _aromatic_ring(mol, c.GetIdx())
+        if ring is not None:
+            return _aromatic(mol, c.GetIdx(), "13C")
+    if _is_sp3_carbon(c):
+        if sum(1 for n in c.GetNeighbors() if n.GetAtomicNum() == 9) == 3:
+            return ShiftEstimate(_C_BASE["CF3"], "CF3 carbon base value")
+        return _c_sp3(mol, c)
+    ci = c.GetIdx()
+    doubles = [b for b in c.GetBonds() if b.GetBondType() == Chem.BondType.DOUBLE]
+    triples = [b for b in c.GetBonds() if b.GetBondType() == Chem.BondType.TRIPLE]
+    if triples:
+        p = triples[0].GetOtherAtom(c)
+        if p.GetAtomicNum() == 7:
+            aryl = any(n.GetIsAromatic() for n in c.GetNeighbors())
+            key = "nitrile-aryl" if aryl else "nitrile"
+            return ShiftEstimate(_C_BASE[key], f"nitrile C base value ({key})")
+        key = "alkyne-CH" if c.GetTotalNumHs(includeNeighbors=True) else "alkyne-C"
+        return ShiftEstimate(_C_BASE[key], f"alkyne C base value ({key})")
+    if len(doubles) == 2:
+        return ShiftEstimate(_C_BASE["allene-central"], "allene central C base value")
+    if len(doubles) == 1:
+        p = doubles[0].GetOtherAtom(c)
+        if p.GetAtomicNum() == 8:
+            return _c_carbonyl(mol, c)
+        if p.GetAtomicNum() == 7:
+            return ShiftEstimate(_C_BASE["imine"], "imine C base value")
+        if p.GetAtomicNum() == 6:
+            return _c_alkene(mol, c, p)
+    return ShiftEstimate(_C_BASE["placeholder-sp2"], "no rule; generic sp2 carbon value")
+
+
+# --------------------------------------------------------------------------- 19F and 31P
+
+
+def _f_base(key: str, what: str) -> ShiftEstimate:
+    return ShiftEstimate(_F_BASE[key], f"{what} base value ({key})")
+
+
+def _estimate_19f(mol, f) -> ShiftEstimate:
+    nbrs = list(f.GetNeighbors())
+    if not nbrs:
+        return _f_base("fluoride", "19F")
+    x = nbrs[0]
+    z = x.GetAtomicNum()
+    xi = x.GetIdx()
+    if z == 15:
+        nf = sum(1 for n in x.GetNeighbors() if n.GetAtomicNum() == 9)
+        return _f_base("PF6" if nf == 6 else "P-F", "P-F")
+    if z == 5:
+        nf = sum(1 for n in x.GetNeighbors() if n.GetAtomicNum() == 9)
+        return _f_base("BF4" if nf == 4 else "BF3", "B-F")
+    if z == 14:
+        return _f_base("Si-F", "Si-F")
+    if z == 7:
+        return _f_base("N-F", "N-F")
+    if z == 16:
+        nf = sum(1 for n in x.GetNeighbors() if n.GetAtomicNum() == 9)
+        if nf == 5:
+            return _f_base("SF5", "S-F")
+        aryl = any(n.GetIsAromatic() for n in x.GetNeighbors())
+        return _f_base("SO2F-aryl" if aryl else "SO2F-alkyl", "sulfonyl-F")
+    if z != 6:
+        return _NO_RULE_F
+    if x.GetIsAromatic():
+        return _f_base("aryl-F", "aryl-F")
+    if _has_double_o(mol, x):
+        aryl = any(n.GetIsAromatic() for n in x.GetNeighbors())
+        return _f_base("acyl-F-aryl" if aryl else "acyl-F", "acyl-F")
+    if any(b.GetBondType() == Chem.BondType.DOUBLE for b in x.GetBonds()):
+        nf = sum(1 for n in x.GetNeighbors() if n.GetAtomicNum() == 9)
+        return _f_base("vinyl-CF2" if nf >= 2 else "vinyl-F", "vinyl-F")
+    others = [n for n in x.GetNeighbors() if n.GetAtomicNum() != 9]
+    nf = x.GetDegree() - len(others)
+    heavy = [n for n in others if not _is_h(n)]
+    nh = len(others) - len(heavy)
+    if nf == 3:
+        if not heavy:
+            return _f_base("CF3-alkyl", "CF3")
+        y = heavy[0]
+        zy = y.GetAtomicNum()
+        if zy == 8:
+            return _f_base("CF3-O", "CF3")
+        if zy == 16:
+            return _f_base("CF3-SO2" if _has_double_o(mol, y) else "CF3-S", "CF3")
+        if zy == 7:
+            return _f_base("CF3-N", "CF3")
+        if zy == 6:
+            if y.GetIsAromatic():
+                return _f_base("CF3-aryl", "CF3")
+            if _has_double_o(mol, y):
+                return _f_base("CF3-carbonyl", "CF3")
+            if any(b.GetBondType() != Chem.BondType.SINGLE for b in y.GetBonds()):
+                return _f_base("CF3-alkenyl", "CF3")
+            if any(n.GetAtomicNum() == 9 for n in y.GetNeighbors()):
+                return _f_base("CF3-perfluoroalkyl", "CF3")
+        return _f_base("CF3-alkyl", "CF3")
+    if nf == 2:
+        if nh:
+            if any(n.GetAtomicNum() == 8 for n in heavy):
+                return _f_base("CHF2-O", "CHF2")
+            if any(n.GetIsAromatic() for n in heavy):
+                return _f_base("CHF2-aryl", "CHF2")
+            return _f_base("CHF2-alkyl", "CHF2")
+        fluorinated = any(any(m.GetAtomicNum() == 9 for m in n.GetNeighbors()) for n in heavy)
+        return _f_base("CF2-perfluoro" if fluorinated else "CF2-alkyl", "CF2")
+    if nf == 1:
+        if nh == 3:
+            return _f_base("CH3F", "CH3F")
+        if nh == 2:
+            aryl = any(n.GetIsAromatic() for n in heavy)
+            return _f_base("CH2F-aryl" if aryl else "CH2F-alkyl", "CH2F")
+        if nh == 1:
+            return _f_base("CHF-alkyl", "CHF")
+        return _f_base("CF-alkyl", "tertiary C-F")
+    return _NO_RULE_F
+
+
+def _p_base(key: str) -> ShiftEstimate:
+    return ShiftEstimate(_P_BASE[key], f"31P group base value ({key})")
+
+
+def _estimate_31p(mol, p) -> ShiftEstimate:
+    pi = p.GetIdx()
+    dbl_o = dbl_s = 0
+    single: list = []
+    for b in p.GetBonds():
+        o = b.GetOtherAtom(p)
+        bt = b.GetBondType()
+        if bt == Chem.BondType.DOUBLE and o.GetAtomicNum() == 8:
+            dbl_o += 1
+        elif bt == Chem.BondType.DOUBLE and o.GetAtomicNum() == 16:
+            dbl_s += 1
+        elif o.GetAtomicNum() == 8 and o.GetFormalCharge() < 0 and o.GetDegree() == 1 and not dbl_o:
+            dbl_o += 1  # P+-O- drawn form of P=O
+        else:
+            single.append(o)
+    z = [a.GetAtomicNum() for a in single]
+    nf, ncl = z.count(9), z.count(17)
+    if nf == 6:
+        return _p_base("PF6")
+    if nf:
+        return _p_base("PF-other")
+    if ncl == 3:
+        return _p_base("POCl3" if dbl_o else "PCl3")
+    carbons = [a for a in single if a.GetAtomicNum() == 6]
+    oxy = [a for a in single if a.GetAtomicNum() == 8]
+    nit = [a for a in single if a.GetAtomicNum() == 7]
+    nh = z.count(1)
+    n_ar = sum(1 for a in carbons if a.GetIsAromatic())
+    o_ar = sum(1 for o in oxy if any(n.GetIsAromatic() for n in o.GetNeighbors()))
+    if p.GetFormalCharge() > 0 and len(carbons) == 4:
+        return _p_base("phosphonium-aryl" if n_ar >= 3 else "phosphonium-alkyl")
+    if dbl_o:
+        if len(oxy) == 3:
+            if o_ar == 3:
+                return _p_base("phosphate-aryl")
+            return _p_base("phosphate-mixed" if o_ar else "phosphate-alkyl")
+        if len(oxy) == 2 and nh == 1:
+            return _p_base("H-phosphonate")
+        if len(oxy) == 2 and len(carbons) == 1:
+            return _p_base("phosphonate-aryl" if n_ar else "phosphonate-alkyl")
+        if len(oxy) == 1 and len(carbons) == 2:
+            return _p_base("phosphinate")
+        if len(nit) == 3:
+            return _p_base("phosphoramide")
+        if len(carbons) == 3:
+            return _p_base("phosphine-oxide-aryl" if n_ar >= 2 else "phosphine-oxide-alkyl")
+        return ShiftEstimate(0.0, "no rule for this P(V)=O centre; placeholder 0 ppm")
+    if dbl_s:
+        if len(carbons) == 3:
+            return _p_base("phosphine-sulfide")
+        if len(oxy) == 3:
+            return _p_base("thiophosphate")
+        return ShiftEstimate(0.0, "no rule for this P=S centre; placeholder 0 ppm")
+    if any(b.GetBondType() == Chem.BondType.DOUBLE and b.GetOtherAtom(p).GetAtomicNum() == 6
+           for b in p.GetBonds()):
+        return _p_base("ylide")
+    if p.GetDegree() == 3 and p.GetFormalCharge() == 0:
+        if nh == 3:
+            return _p_base("PH3")
+        if len(oxy) == 3:
+            return _p_base("phosphite-aryl" if o_ar >= 2 else "phosphite-alkyl")
+        if len(oxy) == 2 and len(nit) == 1:
+            return _p_base("phosphoramidite")
+        if len(carbons) == 3:
+            if n_ar == 3:
+                return _p_base("phosphine-Ar3")
+            if n_ar == 2:
+                return _p_base("phosphine-Ar2R")
+            if n_ar == 1:
+                return _p_base("phosphine-ArR2")
+            if all(a.GetTotalNumHs(includeNeighbors=True) == 3 for a in carbons):
+                return _p_base("phosphine-Me3")
+            return _p_base("phosphine-R3")
+        if len(carbons) == 2 and nh == 1:
+            return _p_base("phosphine-secondary")
+        if len(carbons) == 1 and nh == 2:
+            return _p_base("phosphine-primary")
+    return ShiftEstimate(0.0, "no rule for this phosphorus centre; placeholder 0 ppm")
+
+
+# --------------------------------------------------------------------------- entry point
+
+_NO_RULE = ShiftEstimate(0.0, "no rule; placeholder 0 ppm")
+_NO_RULE_F = ShiftEstimate(0.0, "no rule for this fluorine; placeholder 0 ppm")
+_ELEMENT = {"1H": 1, "13C": 6, "19F": 9, "31P": 15}
+_RULES = {"1H": _estimate_1h, "13C": _estimate_13c, "19F": _estimate_19f, "31P": _estimate_31p}
+
+
+def estimate(mol, atom_index: int, isotope: str) -> ShiftEstimate:
+    """Estimated shift of nucleus ``atom_index`` (an atom of ``isotope``'s element) in ``mol``.
+
+    ``mol`` is a sanitized RDKit molecule with explicit hydrogens. Isotopes or atoms without a
+    rule give a placeholder of 0 ppm whose basis says so; the function never raises for a valid
+    molecule.
+    """
+    rule = _RULES.get(isotope)
+    if rule is None or not 0 <= atom_index < mol.GetNumAtoms():
+        return ShiftEstimate(0.0, f"no rule for {isotope}; placeholder 0 ppm")
+    atom = mol.GetAtomWithIdx(atom_index)
+    if atom.GetAtomicNum() != _ELEMENT[isotope]:
+        return ShiftEstimate(0.0, f"atom {atom_index} is not a {isotope} nucleus; placeholder 0 ppm")
+    try:
+        return rule(mol, atom)
+    except (RuntimeError, ValueError, KeyError, IndexError, StopIteration) as exc:
+        return ShiftEstimate(0.0, f"no rule (estimate failed: {type(exc).__name__}); placeholder 0 ppm")

@@ -1,0 +1,220 @@
+"""The single entry point: `analyze(structure, **options) -> Report`.
+
+structure → stereo choice → configuration → symmetry → active nuclei → couplings → magnetic subsets →
+shifts → notation → report (DESIGN.md §2). The CLI, the batch runner and the web page call only this.
+"""
+from __future__ import annotations
+
+import sys
+
+from rdkit import Chem
+
+from . import shifts as shift_rules
+from .couplings import estimate as estimate_couplings, labile_protons
+from .errors import InputError
+from .magnetic import split_all as magnetic_split_all
+from .notation import SetSpec, label_fragments
+from .nuclei import active_nuclei
+from .options import Options, make_options
+from .report import CouplingResult, FragmentResult, Report, SetResult, WitnessResult
+from .stereo import configuration, stereoisomers
+from .structure import Structure, read_structure
+from .symmetry import SymmetryTooComplex, build_graph, orbits
+
+
+def analyze(structure, options: Options | None = None, **kwargs) -> Report:
+    """Analyse one structure (SMILES, MOL/SDF text, file path, '-', RDKit Mol or Structure)."""
+    opts = options or make_options(**kwargs)
+    st = _as_structure(structure, opts, kwargs.get("name"))
+    choice = stereoisomers(st.mol)
+    if opts.stereoisomer >= len(choice.isomers):
+        raise InputError(f"{st.name}: stereoisomer {opts.stereoisomer} requested but only "
+                         f"{len(choice.isomers)} exist")
+    return _analyze_isomer(st, choice.isomers[opts.stereoisomer], opts, _stereo_warnings(choice, opts))
+
+
+def analyze_each_stereoisomer(structure, options: Options | None = None, **kwargs) -> list[Report]:
+    """One report per stereoisomer compatible with the input's unspecified stereo elements."""
+    opts = options or make_options(**kwargs)
+    st = _as_structure(structure, opts, kwargs.get("name"))
+    choice = stereoisomers(st.mol)
+    out = []
+    for k, iso in enumerate(choice.isomers):
+        warn = (f"stereoisomer {k} of {len(choice.isomers)} (unspecified: {', '.join(choice.unspecified)})",) \
+            if len(choice.isomers) > 1 else ()
+        out.append(_analyze_isomer(st, iso, opts, warn))
+    return out
+
+
+def _as_structure(structure, opts: Options, name) -> Structure:
+    if isinstance(structure, Structure):
+        return structure
+    return read_structure(structure, name=name, max_heavy_atoms=opts.max_heavy_atoms)
+
+
+def _stereo_warnings(choice, opts) -> tuple[str, ...]:
+    if len(choice.isomers) <= 1:
+        return ()
+    return (f"unspecified {', '.join(choice.unspecified)}: analysed stereoisomer {opts.stereoisomer} "
+            f"({Chem.MolToSmiles(Chem.RemoveHs(choice.isomers[opts.stereoisomer], sanitize=False))}) "
+            f"of {len(choice.isomers)}; ask for each stereoisomer to see the others",)
+
+
+def _analyze_isomer(st: Structure, mol: Chem.Mol, opts: Options, warnings: tuple) -> Report:
+    warnings = list(warnings)
+    sys.setrecursionlimit(max(sys.getrecursionlimit(), 4 * mol.GetNumAtoms() + 200))
+    config = configuration(mol, amide_rotation_fast=opts.amide_rotation_fast)
+    if any(p.kind == "amide" for p in config.planar):
+        warnings.append("amide C–N rotation treated as slow: one rotamer analysed "
+                        "(ask for fast amide rotation to average)")
+    _hypervalent_warning(mol, warnings)
+    graph = build_graph(mol, config)
+    nuclei = active_nuclei(mol, opts.isotopes())
+    if not nuclei:
+        raise InputError(f"{st.name}: no active nuclei ({', '.join(opts.nuclei)}) in the structure")
+    by_atom = {n.atom: n for n in nuclei}
+    try:
+        orb = orbits(graph, list(by_atom), chiral_medium=opts.chiral_medium)
+    except SymmetryTooComplex as exc:
+        raise InputError(f"{st.name}: {exc}") from None
+    labile = frozenset() if opts.labile_coupled else labile_protons(mol)
+    partners = [a for a, n in by_atom.items() if not n.dilute]
+    couplings = estimate_couplings(mol, config, partners, decoupled=labile, threshold_hz=opts.threshold_hz)
+    jmap = {frozenset((c.a, c.b)): c for c in couplings}
+    user_shifts = _user_shift_map(st, orb.sets, opts, by_atom)
+
+    coupled_sets = [m for m in orb.sets if not by_atom[m[0]].dilute and not all(a in labile for a in m)]
+    try:
+        splits = dict(zip(coupled_sets, magnetic_split_all(mol, graph, coupled_sets, partners, jmap,
+                                                           opts.chiral_medium)))
+    except SymmetryTooComplex as exc:
+        raise InputError(f"{st.name}: {exc}") from None
+    raw = []
+    for members in orb.sets:
+        nuc = by_atom[members[0]]
+        split = splits.get(members)
+        subsets = split.subsets if split else (tuple(members),)
+        if members[0] in user_shifts:
+            ppm, basis = user_shifts[members[0]], "given by the user"
+        else:
+            est = shift_rules.estimate(mol, members[0], nuc.isotope.symbol)
+            ppm, basis = round(est.ppm, 2), est.basis
+        raw.append((members, nuc, subsets, split, ppm, basis))
+
+    # order sets: isotope by |γ| (descending), then lowest shift first
+    raw.sort(key=lambda r: (-abs(r[1].isotope.gamma), r[1].isotope.symbol, r[4], r[0][0]))
+    specs = [SetSpec(r[1].isotope, tuple(r[0]), tuple(r[2]), r[4]) for r in raw]
+    frags = label_fragments(specs, couplings, opts.mhz)
+    frag_of, letter_of = {}, {}
+    for fi, f in enumerate(frags):
+        for si in f.sets:
+            frag_of[si] = fi
+            letter_of[si] = f.letters[si]
+
+    set_of_atom = {a: i for i, s in enumerate(specs) for a in s.atoms}
+    topicity = _topicity(graph, orb, raw, set_of_atom, opts.chiral_medium)
+    sets = []
+    for i, (members, nuc, subsets, split, ppm, basis) in enumerate(raw):
+        set_couplings = _set_couplings(members, couplings, set_of_atom, i)
+        sets.append(SetResult(
+            index=i, isotope=nuc.isotope.symbol, element=nuc.isotope.element, atoms=tuple(members),
+            magnetic_subsets=tuple(tuple(s) for s in subsets), letter=letter_of[i], fragment=frag_of[i],
+            shift_ppm=ppm, shift_basis=basis, topicity=topicity[i],
+            witnesses=tuple(WitnessResult(w.atoms, w.partner,
+                                          tuple((c.n_bonds, c.j_hz) if c else (None, None) for c in w.paths),
+                                          w.reason) for w in (split.witnesses if split else ())),
+            exchange_decoupled=all(a in labile for a in members), dilute=nuc.dilute,
+            couplings=set_couplings))
+    fragments = tuple(FragmentResult(fi, f.label, f.label_ascii, f.copies, f.sets, f.first_order_above_mhz,
+                                     f.magnetically_inequivalent, f.strongly_coupled_pairs)
+                      for fi, f in enumerate(frags))
+    label = " + ".join(f.label for f in fragments)
+    label_ascii = " + ".join(f.label_ascii for f in fragments)
+    smiles = Chem.MolToSmiles(Chem.RemoveHs(mol, sanitize=False))
+    return Report(
+        name=st.name, input=st.input_text, smiles=smiles, mhz=opts.mhz,
+        nuclei=tuple(opts.nuclei), label=label, label_ascii=label_ascii, fragments=fragments,
+        sets=tuple(sets),
+        couplings=tuple(CouplingResult((c.a, c.b), c.j_hz, c.basis, c.n_bonds) for c in couplings),
+        warnings=tuple(warnings), options=_options_dict(opts), mol=mol)
+
+
+def _options_dict(opts: Options) -> dict:
+    return {"amide_rotation_fast": opts.amide_rotation_fast, "labile_coupled": opts.labile_coupled,
+            "chiral_medium": opts.chiral_medium, "threshold_hz": opts.threshold_hz,
+            "stereoisomer": opts.stereoisomer}
+
+
+def _set_couplings(members, couplings, set_of_atom, index):
+    """Couplings from one member of the set to each other set: the largest |J| per partner set."""
+    rep = members[0]
+    best = {}
+    for c in couplings:
+        if rep not in (c.a, c.b):
+            continue
+        other = c.b if c.a == rep else c.a
+        to = set_of_atom.get(other)
+        if to is None:
+            continue
+        cur = best.get(to)
+        if cur is None or abs(c.j_hz) > abs(cur["j_hz"]):
+            best[to] = {"to_set": to, "j_hz": c.j_hz, "j_basis": c.basis, "n_bonds": c.n_bonds}
+    return tuple(best[k] for k in sorted(best))
+
+
+def _topicity(graph, orb, raw, set_of_atom, chiral_medium) -> list[dict]:
+    """Relations of each set's members (homotopic / enantiotopic) and to other sets (diastereotopic)."""
+    proper_of = {a: k for k, grp in enumerate(orb.proper) for a in grp}
+    enantio_sets = {}
+    for r, s in orb.enantiotopic_pairs:
+        i, j = set_of_atom[r], set_of_atom[s]
+        if i != j:
+            enantio_sets.setdefault(i, set()).add(j)
+            enantio_sets.setdefault(j, set()).add(i)
+    by_colour = {}
+    for i, r in enumerate(raw):
+        by_colour.setdefault(graph.colour[r[0][0]], []).append(i)
+    out = []
+    for i, r in enumerate(raw):
+        members = r[0]
+        n_proper = len({proper_of[a] for a in members})
+        if len(members) == 1:
+            within = "single nucleus"
+        elif n_proper == 1:
+            within = "homotopic"
+        elif all(len(g) == 1 for g in orb.proper if g[0] in members):
+            within = "enantiotopic"
+        else:
+            within = "homotopic and enantiotopic"
+        same_constitution = [j for j in by_colour[graph.colour[members[0]]] if j != i]
+        enantio = sorted(enantio_sets.get(i, ()))
+        dia = [j for j in same_constitution if j not in enantio]
+        entry = {"within": within, "diastereotopic_to": dia}
+        if chiral_medium:
+            entry["enantiotopic_to"] = enantio
+        out.append(entry)
+    return out
+
+
+def _user_shift_map(st, sets, opts, by_atom) -> dict:
+    """User shifts: a value for one atom applies to its whole set; conflicting values are an error."""
+    if not opts.shifts:
+        return {}
+    set_of = {a: k for k, grp in enumerate(sets) for a in grp}
+    per_set = {}
+    for atom, ppm in opts.shifts:
+        if atom not in by_atom:
+            raise InputError(f"{st.name}: shift given for atom {atom}, which is not an observed nucleus")
+        k = set_of[atom]
+        if k in per_set and abs(per_set[k][1] - ppm) > 1e-9:
+            raise InputError(f"{st.name}: conflicting shifts for one chemical set: atom {per_set[k][0]} = "
+                             f"{per_set[k][1]} ppm, atom {atom} = {ppm} ppm")
+        per_set[k] = (atom, ppm)
+    return {sets[k][0]: v[1] for k, v in per_set.items()}
+
+
+def _hypervalent_warning(mol: Chem.Mol, warnings: list) -> None:
+    hyper = [a.GetIdx() for a in mol.GetAtoms() if a.GetDegree() >= 5]
+    if hyper:
+        warnings.append("centres with five or more neighbours (atoms " + ",".join(map(str, hyper)) +
+                        ") treated as fully symmetric")

@@ -1,0 +1,366 @@
+"""Scalar couplings J between active nuclei, estimated from the bonds that connect them.
+
+J(a, b) is looked up in `data/couplings.csv` by the class of the shortest bond path between a and b
+(count, bond types, cis/trans across a double bond, aromatic ortho/meta/para and ring type, geminal or
+vicinal, the kind of phosphorus). Where several shortest paths exist the largest |J| is used, so that
+symmetry-related pairs always get the same estimate. Couplings below the threshold, beyond five bonds,
+to exchange-decoupled protons, or to dilute isotopes at natural abundance are zero.
+"""
+from __future__ import annotations
+
+import csv
+import functools
+import io
+from dataclasses import dataclass
+from importlib import resources
+
+from rdkit import Chem
+
+from . import nucdata
+from .stereo import Configuration
+
+MAX_BONDS = 5
+DEFAULT_THRESHOLD_HZ = 0.3
+
+
+@dataclass(frozen=True)
+class Coupling:
+    a: int
+    b: int
+    j_hz: float
+    basis: str
+    n_bonds: int
+
+
+@functools.lru_cache(maxsize=1)
+def coupling_table() -> dict[str, tuple[float, str]]:
+    text = resources.files("equivclass.data").joinpath("couplings.csv").read_text(encoding="utf-8")
+    rows = csv.DictReader(io.StringIO("\n".join(ln for ln in text.splitlines() if not ln.startswith("#"))))
+    return {r["rule"]: (float(r["j_hz"]), r["source"]) for r in rows}
+
+
+def _shortest_paths(mol: Chem.Mol, a: int, b: int, dist_from_a: dict, limit: int = 8):
+    """All shortest bond paths a → b (at most `limit`), from BFS distances measured from a."""
+    paths = []
+
+    def walk(node, tail):
+        if len(paths) >= limit:
+            return
+        if node == a:
+            paths.append([a] + tail)
+            return
+        d = dist_from_a[node]
+        for nb in mol.GetAtomWithIdx(node).GetNeighbors():
+            j = nb.GetIdx()
+            if dist_from_a.get(j) == d - 1:
+                walk(j, [node] + tail)
+
+    walk(b, [])
+    return paths
+
+
+def _bfs(mol: Chem.Mol, start: int, depth: int) -> dict[int, int]:
+    dist, frontier = {start: 0}, [start]
+    for d in range(1, depth + 1):
+        nxt = []
+        for i in frontier:
+            for nb in mol.GetAtomWithIdx(i).GetNeighbors():
+                j = nb.GetIdx()
+                if j not in dist:
+                    dist[j] = d
+                    nxt.append(j)
+        frontier = nxt
+    return dist
+
+
+def _aromatic_ring(mol: Chem.Mol, atoms):
+    """The smallest aromatic ring that holds all `atoms`, or None."""
+    best = None
+    for ring in mol.GetRingInfo().AtomRings():
+        if all(x in ring for x in atoms) and all(mol.GetAtomWithIdx(x).GetIsAromatic() for x in ring):
+            if best is None or len(ring) < len(best):
+                best = ring
+    return best
+
+
+def _ring_positions(mol: Chem.Mol, ring, atoms):
+    """Heteroaromatic ring kind and the ring positions (1 = the heteroatom) of `atoms`."""
+    hetero = [x for x in ring if mol.GetAtomWithIdx(x).GetAtomicNum() != 6]
+    if not hetero:
+        return "benzene", None
+    h = hetero[0]
+    kinds = {7: "pyridine" if len(ring) == 6 else "pyrrole", 8: "furan", 16: "thiophene"}
+    kind = kinds.get(mol.GetAtomWithIdx(h).GetAtomicNum(), "other")
+    if len(hetero) > 1:
+        kind = "other"
+    k = ring.index(h)
+    order = list(ring[k:]) + list(ring[:k])
+    n = len(ring)
+    pos = []
+    for x in atoms:
+        i = order.index(x)
+        pos.append(min(i, n - i) + 1)
+    return kind, tuple(sorted(pos))
+
+
+def _phosphorus_kind(atom: Chem.Atom) -> str:
+    if atom.GetFormalCharge() > 0 and atom.GetDegree() == 4:
+        return "phosphonium"
+    if atom.GetDegree() + atom.GetTotalNumHs() >= 4 or any(
+            b.GetBondType() == Chem.BondType.DOUBLE for b in atom.GetBonds()):
+        return "p5"
+    return "p3"
+
+
+def _is_cis(config_planar: dict, x: int, a: int, b: int, y: int):
+    p = config_planar.get(frozenset((a, b)))
+    if p is None:
+        return None
+    return frozenset((x, y)) in p.cis
+
+
+def _n_fluorines(atom: Chem.Atom) -> int:
+    return sum(1 for n in atom.GetNeighbors() if n.GetAtomicNum() == 9)
+
+
+def classify(mol: Chem.Mol, path, planar: dict) -> str | None:
+    """The rule name of data/couplings.csv that a bond path a…b belongs to, or None (no estimate)."""
+    atoms = [mol.GetAtomWithIdx(i) for i in path]
+    za, zb = atoms[0].GetAtomicNum(), atoms[-1].GetAtomicNum()
+    pair = "".join(sorted((_sym(za), _sym(zb))))
+    nb = len(path) - 1
+    inner = atoms[1:-1]
+    bond = lambda i, j: mol.GetBondBetweenAtoms(path[i], path[j])  # noqa: E731
+    if pair == "HH":
+        return _classify_hh(mol, path, atoms, inner, nb, bond, planar)
+    if pair == "FH":
+        return _classify_hf(mol, path, atoms, inner, nb, bond, planar)
+    if pair == "FF":
+        return _classify_ff(mol, path, atoms, inner, nb, bond, planar)
+    if pair == "HP":
+        return _classify_hp(mol, path, atoms, inner, nb, bond)
+    if pair == "FP":
+        p = atoms[0] if za == 15 else atoms[-1]
+        if nb == 1:
+            return "PF1_p3" if _phosphorus_kind(p) == "p3" else "PF1_p5"
+        if nb == 2 and inner[0].GetAtomicNum() == 6:
+            return "PF2_pcf"
+        return None
+    if nb == 1 and pair in ("CH", "CF", "CC"):
+        c = atoms[0] if za == 6 else atoms[-1]
+        if pair == "CC":
+            return "CC1_single" if bond(0, 1).GetBondType() == Chem.BondType.SINGLE else "CC1_multiple"
+        if pair == "CF":
+            return "CF1"
+        hyb = c.GetHybridization()
+        return {Chem.HybridizationType.SP3: "CH1_sp3", Chem.HybridizationType.SP: "CH1_sp"}.get(
+            hyb, "CH1_sp2")
+    return None
+
+
+def _sym(z: int) -> str:
+    return {1: "H", 6: "C", 9: "F", 15: "P"}.get(z, "?")
+
+
+def _classify_hh(mol, path, atoms, inner, nb, bond, planar):
+    if nb == 2:
+        c = inner[0]
+        if c.GetAtomicNum() == 7 and any(n.GetAtomicNum() == 6 and _is_carbonyl(n) for n in c.GetNeighbors()):
+            return "HH2_amide"
+        if c.GetAtomicNum() == 6 and c.GetHybridization() == Chem.HybridizationType.SP2:
+            return "HH2_sp2"
+        if c.GetAtomicNum() == 6:
+            return "HH2_sp3"
+        return "HH2_other"
+    if nb == 3:
+        b12 = bond(1, 2)
+        if b12.GetIsAromatic():
+            ring = _aromatic_ring(mol, path[1:3])
+            if ring is None:
+                return "HH3_other"
+            kind, pos = _ring_positions(mol, ring, path[1:3])
+            if kind == "benzene":
+                return "HH3_benzene_ortho" if len(ring) == 6 else "HH3_aromatic5_other"
+            if kind in ("pyridine", "furan", "thiophene", "pyrrole"):
+                tag = "23" if 2 in pos else "34"
+                return f"HH3_{kind}_{tag}"
+            return "HH3_benzene_ortho" if len(ring) == 6 else "HH3_aromatic5_other"
+        if b12.GetBondType() == Chem.BondType.DOUBLE:
+            ring_size = _small_ring_size(mol, path[1], path[2])
+            if ring_size:
+                return f"HH3_ring_alkene_{ring_size}"
+            cis = _is_cis(planar, path[0], path[1], path[2], path[3])
+            return "HH3_alkene_trans" if cis is False else "HH3_alkene_cis"
+        c1, c2 = inner
+        if c1.GetAtomicNum() == 7 or c2.GetAtomicNum() == 7:
+            return "HH3_amide_nh"
+        if c1.GetAtomicNum() == 6 and c2.GetAtomicNum() == 6:
+            sp2 = [c for c in inner if c.GetHybridization() == Chem.HybridizationType.SP2]
+            if any(_is_carbonyl(c) for c in sp2):
+                return "HH3_cho"
+            if sp2:
+                return "HH3_allylic_vicinal"
+            return "HH3_sp3"
+        return "HH3_other"
+    if nb == 4:
+        if all(x.GetIsAromatic() for x in inner):
+            ring = _aromatic_ring(mol, path[1:4])
+            if ring is not None:
+                kind, pos = _ring_positions(mol, ring, (path[1], path[3]))
+                if kind == "benzene":
+                    return "HH4_benzene_meta" if len(ring) == 6 else None
+                if kind in ("pyridine", "furan", "thiophene", "pyrrole"):
+                    key = f"HH4_{kind}_{pos[0]}{pos[1]}"
+                    return key if key in coupling_table() else None
+            return None
+        for i in (1, 2):
+            if bond(i, i + 1).GetBondType() == Chem.BondType.DOUBLE and not bond(i, i + 1).GetIsAromatic():
+                return "HH4_allylic"
+        return None
+    if nb == 5:
+        if all(x.GetIsAromatic() for x in inner):
+            ring = _aromatic_ring(mol, path[1:5])
+            if ring is not None and len(ring) == 6 and _ring_positions(mol, ring, ())[0] == "benzene":
+                return "HH5_benzene_para"
+            return None
+        if bond(2, 3).GetBondType() == Chem.BondType.DOUBLE and not bond(2, 3).GetIsAromatic():
+            return "HH5_homoallylic"
+    return None
+
+
+def _is_carbonyl(atom: Chem.Atom) -> bool:
+    return any(b.GetBondType() == Chem.BondType.DOUBLE and b.GetOtherAtom(atom).GetAtomicNum() in (8, 16)
+               for b in atom.GetBonds())
+
+
+def _small_ring_size(mol: Chem.Mol, i: int, j: int) -> int | None:
+    sizes = [len(r) for r in mol.GetRingInfo().AtomRings() if i in r and j in r and len(r) <= 6]
+    return min(sizes) if sizes else None
+
+
+def _classify_hf(mol, path, atoms, inner, nb, bond, planar):
+    f_first = atoms[0].GetAtomicNum() == 9
+    if nb == 2:
+        c = inner[0]
+        if c.GetHybridization() == Chem.HybridizationType.SP2:
+            return "HF2_vinyl"
+        return "HF2_chf2" if _n_fluorines(c) >= 2 else "HF2_ch2f"
+    if nb == 3:
+        b12 = bond(1, 2)
+        if b12.GetIsAromatic():
+            return "HF3_aryl_ortho"
+        if b12.GetBondType() == Chem.BondType.DOUBLE:
+            cis = _is_cis(planar, path[0], path[1], path[2], path[3])
+            return "HF3_alkene_trans" if cis is False else "HF3_alkene_cis"
+        cf = inner[0] if f_first else inner[1]
+        nf = _n_fluorines(cf)
+        return "HF3_cf3" if nf >= 3 else ("HF3_cf2" if nf == 2 else "HF3_cf")
+    if nb == 4 and all(x.GetIsAromatic() for x in inner):
+        return "HF4_aryl_meta"
+    if nb == 5 and all(x.GetIsAromatic() for x in inner):
+        return "HF5_aryl_para"
+    return None
+
+
+def _classify_ff(mol, path, atoms, inner, nb, bond, planar):
+    if nb == 2:
+        return "FF2_vinyl" if inner[0].GetHybridization() == Chem.HybridizationType.SP2 else "FF2_sp3"
+    if nb == 3:
+        b12 = bond(1, 2)
+        if b12.GetIsAromatic():
+            return "FF3_aryl_ortho"
+        if b12.GetBondType() == Chem.BondType.DOUBLE:
+            cis = _is_cis(planar, path[0], path[1], path[2], path[3])
+            return "FF3_alkene_trans" if cis is False else "FF3_alkene_cis"
+        return "FF3_sp3"
+    if nb == 4:
+        if all(x.GetIsAromatic() for x in inner):
+            return "FF4_aryl_meta"
+        if all(x.GetHybridization() == Chem.HybridizationType.SP3 for x in inner):
+            return "FF4_sp3"
+        return None
+    if nb == 5 and all(x.GetIsAromatic() for x in inner):
+        return "FF5_aryl_para"
+    return None
+
+
+def _classify_hp(mol, path, atoms, inner, nb, bond):
+    p = atoms[0] if atoms[0].GetAtomicNum() == 15 else atoms[-1]
+    kind = _phosphorus_kind(p)
+    seq = inner if atoms[0].GetAtomicNum() == 15 else inner[::-1]  # atoms from P towards H
+    if nb == 1:
+        return f"HP1_{kind}"
+    if nb == 2:
+        return f"HP2_{kind}" if seq[0].GetAtomicNum() == 6 else None
+    if nb == 3:
+        x1, x2 = seq
+        if x1.GetAtomicNum() == 8 and x2.GetAtomicNum() == 6:
+            return "HP3_poch"
+        if x1.GetAtomicNum() == 7 and x2.GetAtomicNum() == 6:
+            return "HP3_pnch"
+        if x1.GetAtomicNum() == 6 and x2.GetAtomicNum() == 6:
+            if x1.GetIsAromatic() and x2.GetIsAromatic():
+                return "HP3_aryl_ortho_p3" if kind == "p3" else "HP3_aryl_ortho_p5"
+            return "HP3_pcch_p3" if kind == "p3" else "HP3_pcch_p5"
+        return None
+    if nb == 4:
+        if seq[0].GetAtomicNum() == 8 and all(x.GetAtomicNum() == 6 for x in seq[1:]):
+            return "HP4_pocch"
+        if all(x.GetIsAromatic() for x in seq):
+            return "HP4_aryl_meta"
+        return None
+    if nb == 5 and all(x.GetIsAromatic() for x in seq):
+        return "HP5_aryl_para"
+    return None
+
+
+def labile_protons(mol: Chem.Mol) -> frozenset[int]:
+    """Protons on O, S and non-amide N: exchange-decoupled by default (amide and sulfonamide N–H differ:
+    amide N–H couples, common practice)."""
+    out = set()
+    for atom in mol.GetAtoms():
+        if atom.GetAtomicNum() != 1 or atom.GetDegree() != 1:
+            continue
+        x = atom.GetNeighbors()[0]
+        if x.GetAtomicNum() in (8, 16, 34):
+            out.add(atom.GetIdx())
+        elif x.GetAtomicNum() == 7:
+            amide = any(n.GetAtomicNum() == 6 and _is_carbonyl(n) for n in x.GetNeighbors())
+            if not amide:
+                out.add(atom.GetIdx())
+    return frozenset(out)
+
+
+def estimate(mol: Chem.Mol, config: Configuration, partners, decoupled=frozenset(),
+             threshold_hz: float = DEFAULT_THRESHOLD_HZ) -> tuple[Coupling, ...]:
+    """Non-zero couplings among `partners` (atom indices of abundant or enriched active nuclei)."""
+    table = coupling_table()
+    planar = {frozenset((p.a, p.b)): p for p in config.planar}
+    partners = sorted(set(partners) - set(decoupled))
+    out = []
+    for a in partners:
+        dist = _bfs(mol, a, MAX_BONDS)
+        for b in partners:
+            if b <= a or b not in dist:
+                continue
+            best = None
+            for path in _shortest_paths(mol, a, b, dist):
+                rule = classify(mol, path, planar)
+                if rule is None or rule not in table:
+                    continue
+                j = table[rule][0] * _gamma_scale(mol, a, b)
+                if best is None or abs(j) > abs(best[0]) or (abs(j) == abs(best[0]) and rule < best[1]):
+                    best = (j, rule)
+            if best is not None and abs(best[0]) >= threshold_hz:
+                out.append(Coupling(a, b, round(best[0], 3), best[1], dist[b]))
+    return tuple(out)
+
+
+def _gamma_scale(mol: Chem.Mol, a: int, b: int) -> float:
+    """Couplings to 2H or 3H scale with the gyromagnetic ratio relative to 1H."""
+    scale = 1.0
+    for i in (a, b):
+        atom = mol.GetAtomWithIdx(i)
+        if atom.GetAtomicNum() == 1 and atom.GetIsotope() > 1:
+            scale *= nucdata.isotope(f"{atom.GetIsotope()}H").gamma / nucdata.isotope("1H").gamma
+    return scale

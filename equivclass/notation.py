@@ -1,0 +1,187 @@
+"""Fragments and Pople letters.
+
+Fragments are connected components of the non-zero coupling network (a magnetically equivalent group
+counts as one node); components made of the same
+chemical sets are one fragment with a copy count. Within a fragment, isotopes take separate regions of
+the alphabet in order of |γ|, sets of one isotope are ordered by shift (lowest δ first), sets that are
+strongly coupled (|Δν| < 10·|J| at the field) take adjacent letters, weakly coupled clusters take letters
+far apart (A…, M…, X…). Counts are digits, magnetic subsets primes (Pople, Schneider & Bernstein 1959).
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from . import nucdata
+
+PRIMES = ("", "′", "″", "‴")
+ASCII_PRIMES = ("", "'", "''", "'''")
+STRONG_RATIO = 10.0  # |Δν| < 10·|J| means strongly coupled (common practice)
+
+
+@dataclass(frozen=True)
+class SetSpec:
+    """What notation needs to know of one chemical set."""
+
+    isotope: nucdata.Isotope
+    atoms: tuple[int, ...]
+    subsets: tuple[tuple[int, ...], ...]
+    shift_ppm: float
+
+
+@dataclass(frozen=True)
+class FragmentLabel:
+    sets: tuple[int, ...]              # indices of the sets, in letter order
+    copies: int
+    component: tuple[int, ...]         # atoms of one copy
+    letters: dict                      # set index -> letter
+    label: str                         # with Unicode primes
+    label_ascii: str
+    first_order_above_mhz: float | None
+    magnetically_inequivalent: bool
+    strongly_coupled_pairs: tuple
+
+
+def _components(sets: list[SetSpec], couplings) -> list[frozenset]:
+    atoms = [a for s in sets for a in s.atoms]
+    parent = {a: a for a in atoms}
+
+    def find(x):
+        while parent[x] != x:
+            parent[x] = parent[parent[x]]
+            x = parent[x]
+        return x
+
+    def union(x, y):
+        rx, ry = find(x), find(y)
+        if rx != ry:
+            parent[max(rx, ry)] = min(rx, ry)
+
+    for c in couplings:
+        if c.a in parent and c.b in parent:
+            union(c.a, c.b)
+    for s in sets:  # magnetically equivalent nuclei act as one group
+        for sub in s.subsets:
+            for a in sub[1:]:
+                union(sub[0], a)
+    groups = {}
+    for a in atoms:
+        groups.setdefault(find(a), set()).add(a)
+    return [frozenset(g) for g in groups.values()]
+
+
+def _prime_text(k: int, table) -> str:
+    return table[k] if k < len(table) else table[1] * k
+
+
+def _letter_starts(sizes: list[int]) -> list[int]:
+    """First letter (0 = A) of each cluster: A, M, X anchors when they fit, even spacing otherwise."""
+    k, total = len(sizes), sum(sizes)
+    if total > 26:
+        starts, pos = [], 0
+        for s in sizes:
+            starts.append(pos)
+            pos += s
+        return starts
+    anchors = {1: [0], 2: [0, 23], 3: [0, 12, 23]}.get(k)
+    if anchors:
+        starts, prev_end = [], 0
+        for i, (a, s) in enumerate(zip(anchors, sizes)):
+            start = max(a, prev_end)
+            if i == k - 1:
+                start = max(prev_end, min(a, 26 - s))
+            starts.append(start)
+            prev_end = start + s
+        if prev_end <= 26:
+            return starts
+    gap = (26 - total) // max(k - 1, 1)
+    starts, pos = [], 0
+    for s in sizes:
+        starts.append(pos)
+        pos += s + gap
+    return starts
+
+
+def _letter(index: int) -> str:
+    return chr(ord("A") + index) if index < 26 else f"Z{index - 25}"
+
+
+def label_fragments(sets: list[SetSpec], couplings, mhz: float) -> list[FragmentLabel]:
+    jmax = {}
+    atom_set = {a: i for i, s in enumerate(sets) for a in s.atoms}
+    for c in couplings:
+        if c.a in atom_set and c.b in atom_set:
+            key = (atom_set[c.a], atom_set[c.b])
+            for k in (key, key[::-1]):
+                jmax[k] = max(jmax.get(k, 0.0), abs(c.j_hz))
+    comps = _components(sets, couplings)
+    by_signature = {}
+    for comp in comps:
+        sig = tuple(sorted({atom_set[a] for a in comp}))
+        by_signature.setdefault(sig, []).append(comp)
+    out = []
+    for sig, group in sorted(by_signature.items(), key=lambda kv: min(min(c) for c in kv[1])):
+        comp = min(group, key=min)
+        out.append(_label_one(sets, sig, comp, len(group), jmax, couplings, atom_set, mhz))
+    return out
+
+
+def _label_one(sets, sig, comp, copies, jmax, couplings, atom_set, mhz) -> FragmentLabel:
+    comp_set = set(comp)
+    order = sorted(sig, key=lambda i: (-abs(sets[i].isotope.gamma), sets[i].isotope.symbol,
+                                       sets[i].shift_ppm, min(sets[i].atoms)))
+    strong_pairs, threshold = [], 0.0
+    inequivalent = False
+    never_first_order = False
+    freq = {i: abs(sets[i].isotope.gamma / nucdata.isotope("1H").gamma) for i in sig}
+    for x, i in enumerate(order):
+        for j in order[x + 1:]:
+            if sets[i].isotope.symbol != sets[j].isotope.symbol or (i, j) not in jmax:
+                continue
+            dppm = abs(sets[i].shift_ppm - sets[j].shift_ppm)
+            jv = jmax[(i, j)]
+            if dppm * freq[i] * mhz < STRONG_RATIO * jv:
+                strong_pairs.append((i, j))
+            if dppm == 0:
+                never_first_order = True
+            else:
+                threshold = max(threshold, STRONG_RATIO * jv / (dppm * freq[i]))
+    # clusters of strongly coupled sets (same isotope only)
+    cluster_of = {i: i for i in order}
+
+    def find(x):
+        while cluster_of[x] != x:
+            x = cluster_of[x]
+        return x
+
+    for i, j in strong_pairs:
+        ri, rj = find(i), find(j)
+        if ri != rj:
+            cluster_of[max(ri, rj, key=order.index)] = min(ri, rj, key=order.index)
+    clusters, seen = [], {}
+    for i in order:
+        r = find(i)
+        if r not in seen:
+            seen[r] = len(clusters)
+            clusters.append([])
+        clusters[seen[r]].append(i)
+    starts = _letter_starts([len(c) for c in clusters])
+    letters, parts, parts_ascii = {}, [], []
+    for start, cluster in zip(starts, clusters):
+        for k, i in enumerate(cluster):
+            letter = _letter(start + k)
+            letters[i] = letter
+            subs = [s for s in sets[i].subsets if set(s) <= comp_set] or \
+                [tuple(a for a in sets[i].atoms if a in comp_set)]
+            if len(subs) > 1:
+                inequivalent = True
+            for p, sub in enumerate(subs):
+                count = "" if len(sub) == 1 else str(len(sub))
+                parts.append(f"{letter}{_prime_text(p, PRIMES)}{count}")
+                parts_ascii.append(f"{letter}{_prime_text(p, ASCII_PRIMES)}{count}")
+    label, label_ascii = "".join(parts), "".join(parts_ascii)
+    if copies > 1:
+        label, label_ascii = f"{copies} × {label}", f"{copies}x{label_ascii}"
+    first_order = None if (inequivalent or never_first_order) else round(threshold, 1)
+    ordered = tuple(i for c in clusters for i in c)
+    return FragmentLabel(ordered, copies, tuple(sorted(comp)), letters, label, label_ascii,
+                         first_order, inequivalent, tuple(strong_pairs))

@@ -1,0 +1,59 @@
+"""Model and output options of one analysis (immutable)."""
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+from . import nucdata
+from .errors import InputError
+from .structure import DEFAULT_MAX_HEAVY_ATOMS
+from .couplings import DEFAULT_THRESHOLD_HZ
+
+
+@dataclass(frozen=True)
+class Options:
+    """What is observed and which motions are fast.
+
+    Defaults (DESIGN.md §3): 1H, 19F and 31P observed at 400 MHz; single-bond, methyl, ring and amine
+    motions fast; amide C–N rotation slow; O–H, N–H (non-amide) and S–H exchange-decoupled; achiral medium.
+    """
+
+    mhz: float = 400.0
+    nuclei: tuple = nucdata.DEFAULT_NUCLEI
+    amide_rotation_fast: bool = False
+    labile_coupled: bool = False
+    chiral_medium: bool = False
+    threshold_hz: float = DEFAULT_THRESHOLD_HZ
+    max_heavy_atoms: int = DEFAULT_MAX_HEAVY_ATOMS
+    stereoisomer: int = 0
+    shifts: tuple = field(default_factory=tuple)   # ((atom index, ppm), ...) given by the user
+
+    def isotopes(self) -> tuple:
+        return nucdata.parse_isotope_list(self.nuclei)
+
+    def checked(self) -> "Options":
+        if not (self.mhz > 0 and self.mhz < 1e5):
+            raise InputError(f"field {self.mhz} MHz: give a positive proton frequency in MHz, e.g. 400")
+        if self.threshold_hz < 0:
+            raise InputError("coupling threshold must not be negative")
+        if self.max_heavy_atoms < 1:
+            raise InputError("size limit must be at least one heavy atom")
+        if self.stereoisomer < 0:
+            raise InputError("stereoisomer number must be 0 or more")
+        self.isotopes()
+        return self
+
+
+def make_options(**kwargs) -> Options:
+    """Options from keyword arguments; unknown names are an error naming the option."""
+    known = set(Options.__dataclass_fields__)
+    unknown = sorted(set(kwargs) - known)
+    if unknown:
+        raise InputError(f"unknown option(s): {', '.join(unknown)}")
+    if "nuclei" in kwargs and kwargs["nuclei"] is not None:
+        kwargs["nuclei"] = tuple(i.symbol for i in nucdata.parse_isotope_list(kwargs["nuclei"]))
+    if "shifts" in kwargs:
+        sh = kwargs["shifts"] or ()
+        kwargs["shifts"] = tuple(sorted((int(k), float(v)) for k, v in
+                                        (sh.items() if isinstance(sh, dict) else sh)))
+    kwargs = {k: v for k, v in kwargs.items() if v is not None}
+    return Options(**kwargs).checked()

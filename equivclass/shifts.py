@@ -698,6 +698,8 @@ def _c_sp3(mol, c) -> ShiftEstimate:
                 names.append(f"gamma-{k}")
     detail = f"; substituents {_fmt(names)}" if names else ""
     note = f"; no increment for {_fmt(missing)}" if missing else ""
+    if mol.GetRingInfo().NumAtomRings(ci):
+        note += "; acyclic rule applied to a ring carbon"
     return ShiftEstimate(round(sum(sorted(terms)), 1),
                          f"sp3 C: Grant-Paul alkane rule{detail}{note}")
 

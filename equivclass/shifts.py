@@ -444,8 +444,8 @@ def _ring_key(mol, ci: int, ring: tuple[int, ...]) -> str:
 def _aromatic_ring(mol, ci: int):
     rings = [r for r in mol.GetRingInfo().AtomRings()
              if ci in r and all(mol.GetAtomWithIdx(i).GetIsAromatic() for i in r)]
-    if not rings:
-        return None
+    if len(rings) < 2:
+        return rings[0] if rings else None
     rings.sort(key=lambda r: (len(r), _ring_key(mol, ci, r)))
     return rings[0]
 

@@ -54,8 +54,8 @@ def _as_structure(structure, opts: Options, name) -> Structure:
 
 def _stereo_warnings(choice, opts) -> tuple[str, ...]:
     if len(choice.isomers) <= 1:
-        return ()
-    return (f"unspecified {', '.join(choice.unspecified)}: analysed stereoisomer {opts.stereoisomer} "
+        return tuple(choice.notes)
+    return tuple(choice.notes) + (f"unspecified {', '.join(choice.unspecified)}: analysed stereoisomer {opts.stereoisomer} "
             f"({Chem.MolToSmiles(Chem.RemoveHs(choice.isomers[opts.stereoisomer], sanitize=False))}) "
             f"of {len(choice.isomers)}; ask for each stereoisomer to see the others",)
 

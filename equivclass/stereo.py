@@ -12,6 +12,7 @@ import itertools
 from dataclasses import dataclass
 
 from rdkit import Chem
+from rdkit.Chem import rdMolDescriptors
 
 _MAIN_GROUP_TETRAHEDRAL = {5, 6, 7, 13, 14, 15, 16, 32, 33, 34, 50, 51, 52}
 _LONE_PAIR_PYRAMIDAL = {15, 16, 33, 34, 51, 52}  # P, S, As, Se, Sb, Te invert slowly (common practice)
@@ -44,6 +45,7 @@ class PlanarBond:
 class Configuration:
     centres: tuple[Centre, ...]
     planar: tuple[PlanarBond, ...]
+    parity_source: str = "tags"    # "tags" or "geometry" (an embedded conformer)
 
 
 def _is_tetrahedral_centre(atom: Chem.Atom) -> bool:
@@ -113,14 +115,22 @@ def _preferred_reference(mol: Chem.Mol, subs, ranks) -> int:
 def configuration(mol: Chem.Mol, amide_rotation_fast: bool = False) -> Configuration:
     """Read every fixed configuration of an explicit-H molecule."""
     ranks = list(Chem.CanonicalRankAtoms(mol, breakTies=False, includeChirality=False))
+    ring_info = mol.GetRingInfo()
+    centre_atoms = [a for a in mol.GetAtoms() if _is_tetrahedral_centre(a)]
+    coords = None
+    if any(ring_info.NumAtomRings(a.GetIdx()) >= 2 for a in centre_atoms):
+        if mol.GetNumConformers() and mol.GetConformer().Is3D():
+            coords = mol.GetConformer().GetPositions()
+        else:
+            coords = _embedded_coordinates(mol)
     centres = []
-    for atom in mol.GetAtoms():
-        if not _is_tetrahedral_centre(atom):
-            continue
+    for atom in centre_atoms:
         idx = atom.GetIdx()
         nbrs = tuple(b.GetOtherAtomIdx(idx) for b in atom.GetBonds())
-        tag = atom.GetChiralTag()
-        parity = -1 if tag == Chem.ChiralType.CHI_TETRAHEDRAL_CW else 1
+        if coords is not None:
+            parity = _signed_volume(coords, idx, nbrs)
+        else:
+            parity = -1 if atom.GetChiralTag() == Chem.ChiralType.CHI_TETRAHEDRAL_CW else 1
         centres.append(Centre(idx, nbrs, parity))
     planar = []
     for bond in mol.GetBonds():
@@ -157,7 +167,40 @@ def configuration(mol: Chem.Mol, amide_rotation_fast: bool = False) -> Configura
                 y = _preferred_reference(mol, subs_b, ranks)
                 cis = _cis_pairs(subs_a, subs_b, x, y, True)
         planar.append(PlanarBond(a, b, subs_a, subs_b, cis, kind))
-    return Configuration(tuple(centres), tuple(planar))
+    return Configuration(tuple(centres), tuple(planar), "geometry" if coords is not None else "tags")
+
+
+def _embedded_coordinates(mol: Chem.Mol):
+    """Coordinates of one ETKDG conformer that keeps the molecule's stereo tags, or None.
+
+    Fused, bridged and spiro ring systems fix the parity of every ring centre, tagged or not, so these
+    are read from real geometry rather than chosen freely.
+    """
+    from rdkit.Chem import AllChem
+    params = AllChem.ETKDGv3()
+    params.randomSeed = 0xEC
+    params.enforceChirality = True
+    m = Chem.Mol(mol)
+    try:
+        if AllChem.EmbedMolecule(m, params) != 0:
+            params.useRandomCoords = True
+            if AllChem.EmbedMolecule(m, params) != 0:
+                return None
+    except Exception:
+        return None
+    return m.GetConformer().GetPositions()
+
+
+def _signed_volume(coords, centre: int, nbrs) -> int:
+    """Orientation (±1) of the ordered neighbours around a centre in 3D."""
+    import numpy as np
+    c = coords[centre]
+    if len(nbrs) == 4:
+        p0, p1, p2, p3 = (coords[n] for n in nbrs)
+        vol = np.linalg.det(np.array([p1 - p0, p2 - p0, p3 - p0]))
+    else:
+        vol = np.linalg.det(np.array([coords[n] - c for n in nbrs[:3]]))
+    return 1 if vol > 0 else -1
 
 
 def _is_linear(atom: Chem.Atom) -> bool:
@@ -172,6 +215,7 @@ class StereoChoice:
 
     isomers: tuple          # explicit-H molecules, first = the one analysed by default
     unspecified: tuple[str, ...]
+    notes: tuple[str, ...] = ()
 
 
 def unspecified_elements(mol: Chem.Mol) -> list:
@@ -192,18 +236,34 @@ def _describe(mol: Chem.Mol, si) -> str:
 def stereoisomers(mol: Chem.Mol, limit: int = MAX_STEREOISOMERS) -> StereoChoice:
     """Assign every unspecified stereo element of an explicit-H molecule, distinct isomers only.
 
-    Isomers are told apart by canonical isomeric SMILES; in cages a combination the ring system cannot
-    adopt is dropped by requiring that RDKit can embed it.
+    Isomers are told apart by canonical isomeric SMILES. Unspecified centres that lie in two or more rings
+    (ring fusions, bridgeheads, cages) are not enumerated: a cage fixes most of them, so they take the
+    configuration of one embedded conformer, which is kept on the molecule for `configuration` to read.
     """
     elems = unspecified_elements(mol)
     if not elems:
         return StereoChoice((mol,), ())
-    descr = tuple(_describe(mol, si) for si in elems)
-    bridged = Chem.rdMolDescriptors.CalcNumBridgeheadAtoms(mol) > 0
+    ring_info = mol.GetRingInfo()
+    poly = [si for si in elems if si.type == Chem.StereoType.Atom_Tetrahedral and
+            ring_info.NumAtomRings(si.centeredOn) >= 2]
+    rest = [si for si in elems if si not in poly]
+    notes = []
+    if poly:
+        embedded = _with_embedded_configuration(mol, [si.centeredOn for si in poly])
+        if embedded is not None:
+            mol = embedded
+            notes.append("ring-fusion/bridgehead stereo at " +
+                         ", ".join(_describe(mol, si) for si in poly) +
+                         " taken from one embedded conformer")
+        else:
+            rest = elems
+    descr = tuple(_describe(mol, si) for si in rest)
+    if not rest:
+        return StereoChoice((mol,), (), tuple(notes))
     seen, out = set(), []
-    for combo in itertools.product((0, 1), repeat=len(elems)):
+    for combo in itertools.product((0, 1), repeat=len(rest)):
         iso = Chem.Mol(mol)
-        for si, bit in zip(elems, combo):
+        for si, bit in zip(rest, combo):
             if si.type == Chem.StereoType.Atom_Tetrahedral:
                 iso.GetAtomWithIdx(si.centeredOn).SetChiralTag(
                     Chem.ChiralType.CHI_TETRAHEDRAL_CW if bit else Chem.ChiralType.CHI_TETRAHEDRAL_CCW)
@@ -215,19 +275,27 @@ def stereoisomers(mol: Chem.Mol, limit: int = MAX_STEREOISOMERS) -> StereoChoice
         key = Chem.MolToSmiles(Chem.RemoveHs(iso, sanitize=False))
         if key in seen:
             continue
-        if bridged and not _embeds(iso):
-            continue
         seen.add(key)
         out.append(iso)
-        if len(out) >= limit or len(seen) > 4 * limit:
+        if len(out) >= limit:
             break
-    return StereoChoice(tuple(out) or (mol,), descr)
+    return StereoChoice(tuple(out) or (mol,), descr, tuple(notes))
 
 
-def _embeds(mol: Chem.Mol) -> bool:
-    from rdkit.Chem import AllChem
-    try:
-        return AllChem.EmbedMolecule(Chem.Mol(mol), randomSeed=7, maxAttempts=20,
-                                     enforceChirality=True) == 0
-    except Exception:
-        return False
+def _with_embedded_configuration(mol: Chem.Mol, atoms):
+    """A copy carrying one ETKDG conformer, with chiral tags of `atoms` read from it (None if it fails)."""
+    coords = _embedded_coordinates(mol)
+    if coords is None:
+        return None
+    m = Chem.Mol(mol)
+    conf = Chem.Conformer(m.GetNumAtoms())
+    for i, p in enumerate(coords):
+        conf.SetAtomPosition(i, p.tolist())
+    conf.Set3D(True)
+    m.RemoveAllConformers()
+    m.AddConformer(conf, assignId=True)
+    probe = Chem.Mol(m)
+    Chem.AssignStereochemistryFrom3D(probe)
+    for a in atoms:
+        m.GetAtomWithIdx(a).SetChiralTag(probe.GetAtomWithIdx(a).GetChiralTag())
+    return m

@@ -159,7 +159,7 @@ def from_mol(mol: Chem.Mol, name: str = "input", max_heavy_atoms: int = DEFAULT_
         raise InputError(f"{name}: {heavy} heavy atoms exceeds the limit of {max_heavy_atoms} "
                          f"(raise it with --max-atoms)")
     _stereo_bonds_to_cis_trans(mol)
-    molh = Chem.AddHs(mol, explicitOnly=False, addCoords=False)
+    molh = Chem.AddHs(mol, explicitOnly=False, addCoords=mol.GetNumConformers() > 0)
     if not input_text:
         input_text = Chem.MolToSmiles(mol)
     return Structure(name=name, mol=molh, n_heavy=heavy, input_text=input_text)

@@ -455,14 +455,19 @@ def _exact_lines(nu, jm, spins, iso, observe, record):
         wi, vi = eig[bkey]
         wf, vf = eig[tkey]
         amp = vf.T @ (t @ vi)
-        inten = amp * amp
-        big = inten > 1e-3 * DROP_RELATIVE * inten.max()
+        inten = np.square(amp, out=amp)
+        big = inten > DROP_RELATIVE * inten.max()
         r, c = np.nonzero(big)
         freqs.append(wi[c] - wf[r] + centre)
         amps.append(inten[r, c])
     if not freqs:
         return np.zeros(0), np.zeros(0)
-    return np.concatenate(freqs), np.concatenate(amps)
+    f = np.concatenate(freqs)
+    a = np.concatenate(amps)
+    # a line below DROP_RELATIVE of this system's strongest is below it in the
+    # final list too (scaling is common, merging only raises the maximum)
+    keep = a > DROP_RELATIVE * a.max()
+    return f[keep], a[keep]
 
 
 def _merge(f: np.ndarray, a: np.ndarray, tol: float = MERGE_HZ):
@@ -472,6 +477,8 @@ def _merge(f: np.ndarray, a: np.ndarray, tol: float = MERGE_HZ):
     order = np.argsort(f, kind="stable")
     f, a = f[order], a[order]
     start = np.concatenate(([0], np.flatnonzero(np.diff(f) > tol) + 1))
+    if start.size == f.size:
+        return f, a
     total = np.add.reduceat(a, start)
     moment = np.add.reduceat(a * f, start)
     safe = np.where(total > 0, total, 1.0)

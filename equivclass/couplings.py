@@ -39,7 +39,7 @@ def coupling_table() -> dict[str, tuple[float, str]]:
     return {r["rule"]: (float(r["j_hz"]), r["source"]) for r in rows}
 
 
-def _shortest_paths(mol: Chem.Mol, a: int, b: int, dist_from_a: dict, limit: int = 8):
+def _shortest_paths(adj, a: int, b: int, dist_from_a: dict, limit: int = 8):
     """All shortest bond paths a → b (at most `limit`), from BFS distances measured from a."""
     paths = []
 
@@ -50,8 +50,7 @@ def _shortest_paths(mol: Chem.Mol, a: int, b: int, dist_from_a: dict, limit: int
             paths.append([a] + tail)
             return
         d = dist_from_a[node]
-        for nb in mol.GetAtomWithIdx(node).GetNeighbors():
-            j = nb.GetIdx()
+        for j in adj[node]:
             if dist_from_a.get(j) == d - 1:
                 walk(j, [node] + tail)
 
@@ -59,13 +58,12 @@ def _shortest_paths(mol: Chem.Mol, a: int, b: int, dist_from_a: dict, limit: int
     return paths
 
 
-def _bfs(mol: Chem.Mol, start: int, depth: int) -> dict[int, int]:
+def _bfs(adj, start: int, depth: int) -> dict[int, int]:
     dist, frontier = {start: 0}, [start]
     for d in range(1, depth + 1):
         nxt = []
         for i in frontier:
-            for nb in mol.GetAtomWithIdx(i).GetNeighbors():
-                j = nb.GetIdx()
+            for j in adj[i]:
                 if j not in dist:
                     dist[j] = d
                     nxt.append(j)
@@ -337,14 +335,15 @@ def estimate(mol: Chem.Mol, config: Configuration, partners, decoupled=frozenset
     table = coupling_table()
     planar = {frozenset((p.a, p.b)): p for p in config.planar}
     partners = sorted(set(partners) - set(decoupled))
+    adj = [tuple(n.GetIdx() for n in atom.GetNeighbors()) for atom in mol.GetAtoms()]
     out = []
     for a in partners:
-        dist = _bfs(mol, a, MAX_BONDS)
+        dist = _bfs(adj, a, MAX_BONDS)
         for b in partners:
             if b <= a or b not in dist:
                 continue
             best = None
-            for path in _shortest_paths(mol, a, b, dist):
+            for path in _shortest_paths(adj, a, b, dist):
                 rule = classify(mol, path, planar)
                 if rule is None or rule not in table:
                     continue

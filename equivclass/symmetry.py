@@ -212,25 +212,38 @@ class _Search:
         self.used[self.img[x]] = False
         self.img[x] = -1
 
-    def _next_atom(self):
-        """The unmapped atom to map next: a heavy neighbour of the mapped region first, then H."""
-        g, img = self.g, self.img
-        best, best_key = -1, None
-        for x in range(g.n):
-            if img[x] >= 0:
-                continue
-            anchored = any(img[w] >= 0 for w in g.nbrs[x])
-            key = (not anchored, not g.heavy[x], x)
-            if best_key is None or key < best_key:
-                best, best_key = x, key
-        return best
-
-    def _candidates(self, x: int):
-        g, img = self.g, self.img
-        for w in g.nbrs[x]:
-            if img[w] >= 0:
-                return [y for y in g.nbrs[img[w]] if not self.used[y] and g.colour[y] == g.colour[x]]
-        return [y for y in range(g.n) if not self.used[y] and g.colour[y] == g.colour[x]]
+    def _order(self, roots) -> tuple[list[int], list[int]]:
+        """Mapping order: breadth-first from the fixed atoms over heavy atoms, each hydrogen right after
+        its parent has been placed; returns (order, anchor) with anchor[k] an earlier neighbour or −1."""
+        g = self.g
+        seen = [False] * g.n
+        order, anchor = [], []
+        for r in roots:
+            seen[r] = True
+        heavy_queue = []
+        for r in roots:
+            heavy_queue.append(r)
+        starts = [i for i in range(g.n) if g.heavy[i]] + list(range(g.n))
+        si = 0
+        while True:
+            while heavy_queue:
+                x = heavy_queue.pop(0)
+                for w in g.nbrs[x]:
+                    if not seen[w]:
+                        seen[w] = True
+                        order.append(w)
+                        anchor.append(x)
+                        if g.heavy[w]:
+                            heavy_queue.append(w)
+            while si < len(starts) and seen[starts[si]]:
+                si += 1
+            if si == len(starts):
+                return order, anchor
+            x = starts[si]
+            seen[x] = True
+            order.append(x)
+            anchor.append(-1)
+            heavy_queue.append(x)
 
     def run(self, fixed: dict[int, int]):
         for x, y in fixed.items():
@@ -240,31 +253,65 @@ class _Search:
                 continue
             if not self._assign(x, y):
                 return None
-        order = []
-        return self._dfs(order)
+        order, anchor = self._order(list(fixed))
+        self.order, self.anchor = order, anchor
+        return self._dfs(0)
 
-    def _dfs(self, order):
+    def _dfs(self, k: int):
         self.steps += 1
         if self.steps > self.g.budget:
             raise SymmetryTooComplex(
                 f"symmetry search exceeded {self.g.budget} steps; the structure is too symmetric "
                 f"for an exact answer within the budget")
-        x = self._next_atom()
-        if x < 0:
+        if k == len(self.order):
             return tuple(self.img)
-        for y in self._candidates(x):
+        g, x, p = self.g, self.order[k], self.anchor[k]
+        if p >= 0:
+            cx = g.colour[x]
+            cands = [y for y in g.nbrs[self.img[p]] if not self.used[y] and g.colour[y] == cx]
+        else:
+            cands = [y for y in range(g.n) if not self.used[y] and g.colour[y] == g.colour[x]]
+        for y in cands:
             if self._assign(x, y):
-                found = self._dfs(order)
+                found = self._dfs(k + 1)
                 if found is not None:
                     return found
                 self._unassign(x)
         return None
 
 
+def _twin_shortcut(g: Graph, fixed: dict[int, int], sign: int):
+    """A symmetry found without search: a 3-cycle of three or more terminal twins (proper), or the swap of
+    two terminal twins whose parent carries no configuration. None when no shortcut applies."""
+    moved = [(x, y) for x, y in fixed.items() if x != y]
+    if len(moved) != 1:
+        return None
+    a, b = moved[0]
+    if g.heavy[a] or len(g.nbrs[a]) != 1 or len(g.nbrs[b]) != 1 or g.nbrs[a] != g.nbrs[b]:
+        return None
+    parent = g.nbrs[a][0]
+    twins = [t for t in g.nbrs[parent] if len(g.nbrs[t]) == 1 and g.colour[t] == g.colour[a]]
+    img = list(range(g.n))
+    spare = [t for t in twins if t not in (a, b) and t not in fixed]
+    if spare and sign == 1:
+        c = spare[0]
+        img[a], img[b], img[c] = b, c, a
+        return tuple(img)
+    if parent in g.centres or g.planar_at[a]:
+        return None
+    if sign == 1:
+        img[a], img[b] = b, a
+        return tuple(img)
+    return None
+
+
 def find_symmetry(g: Graph, fixed: dict[int, int], sign: int):
     """An element of G mapping each key of `fixed` to its value (sign +1 proper, −1 improper), or None."""
     if sign == -1 and not g.has_centres:
         return None
+    quick = _twin_shortcut(g, fixed, sign)
+    if quick is not None:
+        return quick
     return _Search(g, sign).run(fixed)
 
 

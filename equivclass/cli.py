@@ -138,3 +138,7 @@ def label(structure, fmt, stereoisomer, each_stereoisomer, shift_values, shift_f
         click.echo(json.dumps(payload if each_stereoisomer else payload[0], indent=2, ensure_ascii=False))
     else:
         click.echo("\n\n".join(r.to_text() for r in reports))
+
+
+from .batch_cli import batch  # noqa: E402
+main.add_command(batch)

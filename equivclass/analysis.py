@@ -89,6 +89,7 @@ def _analyze_isomer(st: Structure, mol: Chem.Mol, opts: Options, warnings: tuple
                                                            opts.chiral_medium)))
     except SymmetryTooComplex as exc:
         raise InputError(f"{st.name}: {exc}") from None
+    shift_mol = _mol_with_planar_geometry(mol, config)
     raw = []
     for members in orb.sets:
         nuc = by_atom[members[0]]
@@ -97,7 +98,7 @@ def _analyze_isomer(st: Structure, mol: Chem.Mol, opts: Options, warnings: tuple
         if members[0] in user_shifts:
             ppm, basis = user_shifts[members[0]], "given by the user"
         else:
-            est = shift_rules.estimate(mol, members[0], nuc.isotope.symbol)
+            est = shift_rules.estimate(shift_mol, members[0], nuc.isotope.symbol)
             ppm, basis = round(est.ppm, 2), est.basis
         raw.append((members, nuc, subsets, split, ppm, basis))
 
@@ -137,6 +138,24 @@ def _analyze_isomer(st: Structure, mol: Chem.Mol, opts: Options, warnings: tuple
         sets=tuple(sets),
         couplings=tuple(CouplingResult((c.a, c.b), c.j_hz, c.basis, c.n_bonds) for c in couplings),
         warnings=tuple(warnings), options=_options_dict(opts), mol=mol)
+
+
+def _mol_with_planar_geometry(mol: Chem.Mol, config) -> Chem.Mol:
+    """A copy whose non-stereogenic double bonds (=CH2, =CF2 …) carry the cis/trans relation the
+    configuration fixed, so that cis and trans alkene increments apply to diastereotopic nuclei."""
+    out = Chem.Mol(mol)
+    for p in config.planar:
+        if p.kind != "double":
+            continue
+        bond = out.GetBondBetweenAtoms(p.a, p.b)
+        if bond.GetStereo() != Chem.BondStereo.STEREONONE or not p.cis:
+            continue
+        x, y = tuple(next(iter(p.cis)))
+        if x not in p.subs_a:
+            x, y = y, x
+        bond.SetStereoAtoms(x, y)
+        bond.SetStereo(Chem.BondStereo.STEREOCIS)
+    return out
 
 
 def _options_dict(opts: Options) -> dict:

@@ -82,7 +82,7 @@ def _letter_starts(sizes: list[int]) -> list[int]:
             starts.append(pos)
             pos += s
         return starts
-    anchors = {1: [0], 2: [0, 23], 3: [0, 12, 23]}.get(k)
+    anchors = {1: [0], 2: [0, 23], 3: [0, 12, 23], 4: [0, 12, 17, 23]}.get(k)  # A, M, R, X
     if anchors:
         starts, prev_end = [], 0
         for i, (a, s) in enumerate(zip(anchors, sizes)):

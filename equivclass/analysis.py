@@ -13,7 +13,7 @@ from . import shifts as shift_rules
 from .couplings import estimate as estimate_couplings, labile_protons
 from .errors import InputError
 from .magnetic import split_all as magnetic_split_all
-from .notation import SetSpec, label_fragments
+from .notation import SetSpec, components, label_fragments
 from .nuclei import active_nuclei
 from .options import Options, make_options
 from .report import CouplingResult, FragmentResult, Report, SetResult, WitnessResult
@@ -113,6 +113,7 @@ def _analyze_isomer(st: Structure, mol: Chem.Mol, opts: Options, warnings: tuple
             letter_of[si] = f.letters[si]
 
     set_of_atom = {a: i for i, s in enumerate(specs) for a in s.atoms}
+    comp_of = {a: k for k, comp in enumerate(components(specs, couplings)) for a in comp}
     topicity = _topicity(graph, orb, raw, set_of_atom, opts.chiral_medium)
     sets = []
     for i, (members, nuc, subsets, split, ppm, basis) in enumerate(raw):
@@ -123,7 +124,8 @@ def _analyze_isomer(st: Structure, mol: Chem.Mol, opts: Options, warnings: tuple
             shift_ppm=ppm, shift_basis=basis, topicity=topicity[i],
             witnesses=tuple(WitnessResult(w.atoms, w.partner,
                                           tuple((c.n_bonds, c.j_hz) if c else (None, None) for c in w.paths),
-                                          w.reason) for w in (split.witnesses if split else ())),
+                                          w.reason, comp_of[w.atoms[0]] == comp_of[w.atoms[1]])
+                            for w in (split.witnesses if split else ())),
             exchange_decoupled=all(a in labile for a in members), dilute=nuc.dilute,
             couplings=set_couplings))
     fragments = tuple(FragmentResult(fi, f.label, f.label_ascii, f.copies, f.sets, f.first_order_above_mhz,

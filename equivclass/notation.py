@@ -41,7 +41,8 @@ class FragmentLabel:
     strongly_coupled_pairs: tuple
 
 
-def _components(sets: list[SetSpec], couplings) -> list[frozenset]:
+def components(sets: list[SetSpec], couplings) -> list[frozenset]:
+    """Atoms of each connected component of the coupling network (magnetic subsets kept together)."""
     atoms = [a for s in sets for a in s.atoms]
     parent = {a: a for a in atoms}
 
@@ -113,7 +114,7 @@ def label_fragments(sets: list[SetSpec], couplings, mhz: float) -> list[Fragment
             key = (atom_set[c.a], atom_set[c.b])
             for k in (key, key[::-1]):
                 jmax[k] = max(jmax.get(k, 0.0), abs(c.j_hz))
-    comps = _components(sets, couplings)
+    comps = components(sets, couplings)
     by_signature = {}
     for comp in comps:
         sig = tuple(sorted({atom_set[a] for a in comp}))

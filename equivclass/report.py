@@ -25,6 +25,7 @@ class WitnessResult:
     partner: int
     paths: tuple            # ((n_bonds | None, j_hz | None), (n_bonds | None, j_hz | None))
     reason: str
+    within_copy: bool = True   # False: the two nuclei lie in different uncoupled copies of a fragment
 
 
 @dataclass(frozen=True)
@@ -95,7 +96,7 @@ class Report:
                 "topicity": s.topicity,
                 "witnesses": [{"atoms": list(w.atoms), "partner": w.partner,
                                "paths": [{"n_bonds": p[0], "j_hz": p[1]} for p in w.paths],
-                               "reason": w.reason} for w in s.witnesses],
+                               "reason": w.reason, "within_copy": w.within_copy} for w in s.witnesses],
                 "exchange_decoupled": s.exchange_decoupled, "dilute": s.dilute,
                 "couplings": [dict(c) for c in s.couplings],
             } for s in self.sets],
@@ -130,7 +131,7 @@ class Report:
                 rel += "; dilute (satellites only)"
             lines.append(f"{s.index:>3}  {letter:<7} {s.isotope:<7} {len(s.atoms):>3}  {s.shift_ppm:>7.2f}  "
                          f"{atoms:<24} {rel}")
-        splits = [(s, w) for s in self.sets for w in s.witnesses]
+        splits = [(s, w) for s in self.sets for w in s.witnesses if w.within_copy]
         if splits:
             lines += ["", "Magnetically inequivalent:"]
             for s, w in splits:

@@ -142,3 +142,7 @@ def label(structure, fmt, stereoisomer, each_stereoisomer, shift_values, shift_f
 
 from .batch_cli import batch  # noqa: E402
 main.add_command(batch)
+
+from .web_cli import draw_command, serve  # noqa: E402
+main.add_command(serve)
+main.add_command(draw_command)

@@ -17,7 +17,7 @@ SPECTRUM_MAX_GROUP = 10
 #: Largest number of nuclei simulated for the embedded spectrum.
 SPECTRUM_MAX_NUCLEI = 30
 
-_CSS = """
+REPORT_CSS = """
 :root { --ink:#1f2428; --muted:#5b6570; --line:#d5dbe1; --panel:#f6f8fa; --accent:#0d5aa0; }
 * { box-sizing: border-box; }
 body { font: 15px/1.45 system-ui, -apple-system, "Segoe UI", "DejaVu Sans", sans-serif; color: var(--ink);
@@ -249,13 +249,14 @@ def simulated_spectrum_svg(report, observe: str | None = None, width: int = 900,
             f"</text></svg>")
 
 
-def html_report(report, spectrum_svg: str | None = None, multiplets=None, picture: bool = True) -> str:
-    """The whole report as one HTML document (str)."""
+def report_fragment(report, spectrum_svg: str | None = None, multiplets=None, picture: bool = True) -> str:
+    """The report as an HTML fragment (no <html>/<head>); style it with REPORT_CSS."""
     d = report.to_dict()
     pic = ""
     if picture:
         try:
-            pic = f"<div class='picture'>{_inline_svg(draw(report, 'svg', size=(500, min(900, 380 + 22 * len(report.sets)))))}</div>"
+            svg = draw(report, "svg", size=(500, min(900, 380 + 22 * len(report.sets))))
+            pic = f"<div class='picture' id='picture'>{_inline_svg(svg)}</div>"
         except Exception as exc:       # a picture fault must not hide the analysis
             pic = f"<div class='picture warn'>Picture not drawn ({_e(type(exc).__name__)}).</div>"
     atoms_lettered = len(atom_labels(report))
@@ -265,9 +266,7 @@ def html_report(report, spectrum_svg: str | None = None, multiplets=None, pictur
              f"<dt>sets</dt><dd>{len(report.sets)} ({atoms_lettered} nuclei)</dd>"
              f"<dt>fragments</dt><dd>{len(report.fragments)}</dd></dl>")
     parts = [
-        "<!DOCTYPE html><html lang='en'><head><meta charset='utf-8'>",
-        "<meta name='viewport' content='width=device-width, initial-scale=1'>",
-        f"<title>Spin systems of {_e(report.name)}</title><style>{_CSS}</style></head><body><main>",
+        "<section class='eqc-report'>",
         f"<h1>Spin systems of {_e(report.name)}</h1>",
         f"<p class='sub'>input: {_e(report.input[:300])}</p>",
         f"<div class='top'>{pic}<div class='summary'><div class='small'>spin-system label</div>"
@@ -282,5 +281,15 @@ def html_report(report, spectrum_svg: str | None = None, multiplets=None, pictur
         parts += ["<h2>Simulated spectrum</h2>", f"<div class='spectrum'>{_inline_svg(spectrum_svg)}</div>"]
     if report.warnings:
         parts += ["<h2>Warnings</h2>"] + [f"<div class='warn'>{_e(w)}</div>" for w in report.warnings]
-    parts.append(f"<footer class='caution'>{_e(d.get('caution', CAUTION))}</footer></main></body></html>")
+    parts.append(f"<footer class='caution'>{_e(d.get('caution', CAUTION))}</footer></section>")
     return "\n".join(parts)
+
+
+def html_report(report, spectrum_svg: str | None = None, multiplets=None, picture: bool = True) -> str:
+    """The whole report as one self-contained HTML document (str)."""
+    return "\n".join([
+        "<!DOCTYPE html><html lang='en'><head><meta charset='utf-8'>",
+        "<meta name='viewport' content='width=device-width, initial-scale=1'>",
+        f"<title>Spin systems of {_e(report.name)}</title><style>{REPORT_CSS}</style></head><body><main>",
+        report_fragment(report, spectrum_svg, multiplets, picture),
+        "</main></body></html>"])

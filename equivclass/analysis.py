@@ -26,7 +26,7 @@ def analyze(structure, options: Options | None = None, **kwargs) -> Report:
     """Analyse one structure (SMILES, MOL/SDF text, file path, '-', RDKit Mol or Structure)."""
     opts = options or make_options(**kwargs)
     st = _as_structure(structure, opts, kwargs.get("name"))
-    choice = stereoisomers(st.mol)
+    choice = stereoisomers(st.mol, merge_enantiomers=not opts.chiral_medium)
     if opts.stereoisomer >= len(choice.isomers):
         raise InputError(f"{st.name}: stereoisomer {opts.stereoisomer} requested but only "
                          f"{len(choice.isomers)} exist")
@@ -37,7 +37,7 @@ def analyze_each_stereoisomer(structure, options: Options | None = None, **kwarg
     """One report per stereoisomer compatible with the input's unspecified stereo elements."""
     opts = options or make_options(**kwargs)
     st = _as_structure(structure, opts, kwargs.get("name"))
-    choice = stereoisomers(st.mol)
+    choice = stereoisomers(st.mol, merge_enantiomers=not opts.chiral_medium)
     out = []
     for k, iso in enumerate(choice.isomers):
         warn = (f"stereoisomer {k} of {len(choice.isomers)} (unspecified: {', '.join(choice.unspecified)})",) \
@@ -54,6 +54,9 @@ def _as_structure(structure, opts: Options, name) -> Structure:
 
 def _stereo_warnings(choice, opts) -> tuple[str, ...]:
     if len(choice.isomers) <= 1:
+        if choice.unspecified:
+            return tuple(choice.notes) + (f"unspecified {', '.join(choice.unspecified)}: the stereoisomers "
+                                          f"are enantiomers, alike in an achiral medium",)
         return tuple(choice.notes)
     return tuple(choice.notes) + (f"unspecified {', '.join(choice.unspecified)}: analysed stereoisomer {opts.stereoisomer} "
             f"({Chem.MolToSmiles(Chem.RemoveHs(choice.isomers[opts.stereoisomer], sanitize=False))}) "

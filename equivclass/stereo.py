@@ -233,10 +233,23 @@ def _describe(mol: Chem.Mol, si) -> str:
            f"{bond.GetEndAtom().GetSymbol()}{bond.GetEndAtomIdx()}"
 
 
-def stereoisomers(mol: Chem.Mol, limit: int = MAX_STEREOISOMERS) -> StereoChoice:
+def _mirror_key(iso: Chem.Mol) -> str:
+    m = Chem.RemoveHs(iso, sanitize=False)
+    for a in m.GetAtoms():
+        tag = a.GetChiralTag()
+        if tag == Chem.ChiralType.CHI_TETRAHEDRAL_CW:
+            a.SetChiralTag(Chem.ChiralType.CHI_TETRAHEDRAL_CCW)
+        elif tag == Chem.ChiralType.CHI_TETRAHEDRAL_CCW:
+            a.SetChiralTag(Chem.ChiralType.CHI_TETRAHEDRAL_CW)
+    return Chem.MolToSmiles(m)
+
+
+def stereoisomers(mol: Chem.Mol, limit: int = MAX_STEREOISOMERS,
+                  merge_enantiomers: bool = True) -> StereoChoice:
     """Assign every unspecified stereo element of an explicit-H molecule, distinct isomers only.
 
-    Isomers are told apart by canonical isomeric SMILES. Unspecified centres that lie in two or more rings
+    Isomers are told apart by canonical isomeric SMILES; in an achiral medium an enantiomer is the same
+    spectrum and is listed once (`merge_enantiomers`). Unspecified centres that lie in two or more rings
     (ring fusions, bridgeheads, cages) are not enumerated: a cage fixes most of them, so they take the
     configuration of one embedded conformer, which is kept on the molecule for `configuration` to read.
     """
@@ -276,6 +289,8 @@ def stereoisomers(mol: Chem.Mol, limit: int = MAX_STEREOISOMERS) -> StereoChoice
         if key in seen:
             continue
         seen.add(key)
+        if merge_enantiomers:
+            seen.add(_mirror_key(iso))
         out.append(iso)
         if len(out) >= limit:
             break

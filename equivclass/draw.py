@@ -16,7 +16,9 @@ module, not a physical value.
 """
 from __future__ import annotations
 
+import html
 import math
+import re
 
 from rdkit import Chem
 from rdkit.Chem import rdDepictor
@@ -184,7 +186,9 @@ def draw(report, fmt: str = "svg", size: tuple = (520, 420)):
     if not (100 <= width <= 4000 and 100 <= height <= 4000):
         raise InputError(f"{report.name}: picture size must be 100–4000 pixels a side")
     mol, mapping = _drawing_mol(report)
-    ascii_only = True
+    # RDKit draws strings byte by byte, so the PNG gets ASCII primes; SVG text is written as real
+    # <text> elements (Unicode primes, selectable and searchable)
+    ascii_only = fmt == "png"
     labels = atom_labels(report, ascii_only)
     rows = _legend_rows(report, ascii_only)
     longest = max((len(r[2]) for r in rows), default=10)
@@ -218,18 +222,18 @@ def draw(report, fmt: str = "svg", size: tuple = (520, 420)):
     drawer.DrawMolecule(prepared, highlightAtoms=hl_atoms, highlightAtomColors=hl_colours,
                         highlightBonds=[], highlightAtomRadii=hl_radii)
 
-    # letters beside their atoms, pushed away from the bonds
-    drawer.SetFontSize(max(15.0, min(24.0, width / 24)))
+    texts = []                                 # (text, x, y, align, rgb, font px, css class, atom)
+    note_px = max(15.0, min(24.0, width / 24))
+    conf = prepared.GetConformer()
     for orig, (set_idx, text) in sorted(labels.items()):
         d = mapping.get(orig)
         if d is None:
             continue
         p = drawer.GetDrawCoords(d)
         atom = prepared.GetAtomWithIdx(d)
-        conf = prepared.GetConformer()
         here = conf.GetAtomPosition(d)
         vx = vy = 0.0
-        for nb in atom.GetNeighbors():
+        for nb in atom.GetNeighbors():          # push the letter away from the bonds
             q = conf.GetAtomPosition(nb.GetIdx())
             vx += here.x - q.x
             vy += here.y - q.y
@@ -243,15 +247,12 @@ def draw(report, fmt: str = "svg", size: tuple = (520, 420)):
         else:
             align, dx = 0, ux * off
         dy = -uy * (off + 6.0)                 # drawing y grows downwards
-        drawer.SetColour(set_colour(set_idx)[0])
-        drawer.DrawString(text, Point2D(p.x + dx, p.y + dy), align, True)
+        texts.append((text, p.x + dx, p.y + dy, align, set_colour(set_idx)[0], note_px, "nucleus-label", orig))
 
-    # legend
-    drawer.SetFontSize(15.0)
     top = mol_h + 8
-    drawer.SetColour((0.2, 0.2, 0.2))
-    drawer.DrawString(f"{report.label_ascii}   at {report.mhz:g} MHz   (shifts estimated)",
-                      Point2D(10, top + LEGEND_ROW / 2), 1, True)
+    label = report.label_ascii if ascii_only else report.label
+    texts.append((f"{label}   at {report.mhz:g} MHz   (shifts estimated)", 10, top + LEGEND_ROW / 2, 1,
+                  (0.2, 0.2, 0.2), 15.0, "legend-title", None))
     col_w = (width - 20) / ncols
     drawer.SetFillPolys(True)
     for k, (dark, light, text) in enumerate(rows):
@@ -260,7 +261,23 @@ def draw(report, fmt: str = "svg", size: tuple = (520, 420)):
         y = top + LEGEND_ROW * (r + 1)
         drawer.SetColour(light)
         drawer.DrawRect(Point2D(x, y + 3), Point2D(x + 14, y + LEGEND_ROW - 3), True)
-        drawer.SetColour(dark)
-        drawer.DrawString(text, Point2D(x + 20, y + LEGEND_ROW / 2), 1, True)
+        texts.append((text, x + 20, y + LEGEND_ROW / 2, 1, dark, 15.0, "legend-row", None))
+
+    if fmt == "png":
+        for text, x, y, align, rgb, px, _, _ in texts:
+            drawer.SetFontSize(px)
+            drawer.SetColour(rgb)
+            drawer.DrawString(text, Point2D(x, y), align, True)
+        drawer.FinishDrawing()
+        return drawer.GetDrawingText()
     drawer.FinishDrawing()
-    return drawer.GetDrawingText()
+    anchor = {0: "middle", 1: "start", 2: "end"}
+    elems = []
+    for text, x, y, align, rgb, px, cls, orig in texts:
+        data = f" data-atom='{orig}'" if orig is not None else ""
+        elems.append(f"<text class='{cls}'{data} x='{x:.1f}' y='{y:.1f}' dominant-baseline='central' "
+                     f"text-anchor='{anchor[align]}' font-family='DejaVu Sans, Arial, sans-serif' "
+                     f"font-size='{px:.0f}px' fill='{hex_colour(rgb)}' style='white-space:pre'>{html.escape(text)}</text>")
+    svg = re.sub(r"<\?xml[^>]*\?>", "<?xml version='1.0' encoding='utf-8'?>", drawer.GetDrawingText(), count=1)
+    end = svg.rindex("</svg>")
+    return svg[:end] + "\n".join(elems) + "\n" + svg[end:]

@@ -36,6 +36,7 @@ PROPERTIES = ("inequivalent", "diastereotopic", "second-order")
 ROLES = ("reactant", "agent", "product")
 CHUNK_SIZE = 8
 WINDOW_PER_WORKER = 4
+CONNECT_TIMEOUT = "20s"        # how long to wait for a cluster scheduler
 _ATOM_MAP = re.compile(r":\d+\]")
 
 
@@ -346,7 +347,7 @@ def _run_dask(records, opts: Options, scheduler: str, chunk_size: int) -> Iterat
     except ImportError:  # pragma: no cover - dask[distributed] is a dependency
         raise InputError("a cluster run needs the 'distributed' package") from None
     try:
-        client = Client(scheduler, timeout="20s", set_as_default=False)
+        client = Client(scheduler, timeout=CONNECT_TIMEOUT, set_as_default=False)
     except (OSError, TimeoutError, ValueError) as exc:
         raise InputError(f"cluster scheduler {scheduler}: cannot connect ({' '.join(str(exc).split())[:160]})") \
             from None

@@ -1,0 +1,259 @@
+"""Vicinal H–C–C–H couplings from dihedral angles (generalised Karplus equation).
+
+Equation of Haasnoot, de Leeuw & Altona (Tetrahedron 1980, 36, 2783), parameters and Huggins
+electronegativities in ``data/karplus.csv``:
+
+    3J = P1 cos²φ + P2 cos φ + P3 + Σ_i Δχ_i [P4 + P5 cos²(ξ_i φ + P6 |Δχ_i|)]
+    Δχ_i = χ(S_i) − χ(H) − P7 Σ_β (χ(β) − χ(H))
+
+S_i are the non-hydrogen substituents on the two carbons (other than the C–C bond itself); ξ_i = −1
+when S_i lies +120° from the coupled proton on its own carbon (looking along the C–C bond, the sense
+that puts it antiperiplanar to the other proton at φ = +60°), +1 otherwise, so that a substituent
+antiperiplanar to a coupled proton lowers a gauche coupling.
+
+* Rings (fixed geometry): dihedrals measured on RDKit ETKDG conformers (fixed seed) after MMFF
+  optimisation, Boltzmann-weighted at 298 K over distinct conformers (both chairs of a ring are
+  sampled, so ring inversion is averaged).
+* Chains (free rotation): equal-weight average over the three staggered rotamers and both
+  arrangements of the far carbon's substituents.
+
+Never raises for a valid molecule: when embedding or the force field fails the result is empty and
+the caller keeps its table value.
+"""
+
+from __future__ import annotations
+
+import csv
+import functools
+import math
+from importlib import resources
+from pathlib import Path
+
+from rdkit import Chem
+from rdkit.Chem import AllChem, rdMolTransforms
+
+__all__ = ["haasnoot_j", "vicinal_j_from_geometry", "ring_vicinal_couplings", "rotamer_average_vicinal",
+           "vicinal_fragment"]
+
+_RT_KCAL = 0.0019872 * 298.15  # kcal/mol at 298.15 K
+_BASIS_RING = "Karplus (Haasnoot-de Leeuw-Altona) on {n} MMFF conformer(s), Boltzmann 298 K"
+_BASIS_CHAIN = "Karplus (Haasnoot-de Leeuw-Altona), equal-weight staggered rotamers"
+
+
+def _rows() -> list[dict[str, str]]:
+    try:
+        text = resources.files("equivclass.data").joinpath("karplus.csv").read_text(encoding="utf-8")
+    except ModuleNotFoundError:  # source checkout that is not installed
+        text = (Path(__file__).resolve().parent.parent / "data" / "karplus.csv").read_text(encoding="utf-8")
+    lines = [ln for ln in text.splitlines() if ln.strip() and not ln.lstrip().startswith("#")]
+    return list(csv.DictReader(lines))
+
+
+@functools.lru_cache(maxsize=1)
+def _tables() -> tuple[dict[str, float], dict[str, float]]:
+    params, chi = {}, {}
+    for r in _rows():
+        (params if r["kind"] == "param" else chi)[r["key"]] = float(r["value"])
+    return params, chi
+
+
+def haasnoot_j(phi_deg: float, substituents: list[tuple[float, int]] = ()) -> float:
+    """3J(H,H) in Hz at dihedral ``phi_deg`` with substituents [(Δχ, ξ)] (Haasnoot et al. 1980)."""
+    p, _ = _tables()
+    phi = math.radians(phi_deg)
+    j = p["P1"] * math.cos(phi) ** 2 + p["P2"] * math.cos(phi) + p["P3"]
+    for dchi, xi in substituents:
+        j += dchi * (p["P4"] + p["P5"] * math.cos(xi * phi + math.radians(p["P6"] * abs(dchi))) ** 2)
+    return j
+
+
+def _dchi(mol: Chem.Mol, sub: int, carbon: int) -> float:
+    """Group electronegativity difference Δχ of substituent atom ``sub`` on ``carbon`` (with β term)."""
+    p, chi = _tables()
+    h = chi["H"]
+    atom = mol.GetAtomWithIdx(sub)
+    alpha = chi.get(atom.GetSymbol(), h) - h
+    beta = sum(chi.get(nb.GetSymbol(), h) - h for nb in atom.GetNeighbors() if nb.GetIdx() != carbon)
+    return alpha - p["P7"] * beta
+
+
+def _wrap(angle: float) -> float:
+    return (angle + 180.0) % 360.0 - 180.0
+
+
+def vicinal_fragment(mol: Chem.Mol, h1: int, h2: int) -> tuple[int, int] | None:
+    """The carbons (c1, c2) of an H–C(sp3)–C(sp3)–H path h1…h2, or None."""
+    try:
+        a1, a2 = mol.GetAtomWithIdx(h1), mol.GetAtomWithIdx(h2)
+    except (RuntimeError, IndexError):
+        return None
+    if a1.GetAtomicNum() != 1 or a2.GetAtomicNum() != 1 or a1.GetDegree() != 1 or a2.GetDegree() != 1:
+        return None
+    c1, c2 = a1.GetNeighbors()[0], a2.GetNeighbors()[0]
+    if c1.GetAtomicNum() != 6 or c2.GetAtomicNum() != 6 or c1.GetIdx() == c2.GetIdx():
+        return None
+    if mol.GetBondBetweenAtoms(c1.GetIdx(), c2.GetIdx()) is None:
+        return None
+    if c1.GetDegree() != 4 or c2.GetDegree() != 4:
+        return None
+    return c1.GetIdx(), c2.GetIdx()
+
+
+def _substituents(mol: Chem.Mol, c: int, other: int) -> list[int]:
+    return [nb.GetIdx() for nb in mol.GetAtomWithIdx(c).GetNeighbors()
+            if nb.GetIdx() != other and nb.GetAtomicNum() > 1]
+
+
+def vicinal_j_from_geometry(mol: Chem.Mol, h1: int, h2: int, dihedral) -> float | None:
+    """3J(h1,h2) with dihedral angles given by ``dihedral(a, b, c, d) -> degrees``."""
+    cc = vicinal_fragment(mol, h1, h2)
+    if cc is None:
+        return None
+    c1, c2 = cc
+    phi = dihedral(h1, c1, c2, h2)
+    subs = []
+    for cs, co, hs, ho in ((c1, c2, h1, h2), (c2, c1, h2, h1)):
+        ref = dihedral(hs, cs, co, ho)
+        for s in _substituents(mol, cs, co):
+            omega = _wrap(dihedral(s, cs, co, ho) - ref)
+            subs.append((_dchi(mol, s, cs), -1 if omega > 0 else 1))
+    return haasnoot_j(phi, subs)
+
+
+def rotamer_average_vicinal(mol: Chem.Mol, h1: int, h2: int) -> tuple[float, str] | None:
+    """Free-rotation 3J(h1,h2): the Haasnoot equation averaged over the three staggered rotamers
+    (φ = 60°, 180°, 300°) and both arrangements of the far carbon's other substituents, equal weights.
+    None when h1…h2 is not an H–C(sp3)–C(sp3)–H path."""
+    try:
+        cc = vicinal_fragment(mol, h1, h2)
+        if cc is None:
+            return None
+        c1, c2 = cc
+        front = [h1] + [nb.GetIdx() for nb in mol.GetAtomWithIdx(c1).GetNeighbors()
+                        if nb.GetIdx() not in (h1, c2)]
+        back_rest = [nb.GetIdx() for nb in mol.GetAtomWithIdx(c2).GetNeighbors() if nb.GetIdx() not in (h2, c1)]
+        values = []
+        for order in (back_rest, back_rest[::-1]):
+            back = [h2] + order
+            for theta in (60.0, 180.0, 300.0):
+                angle = {a: 120.0 * k for k, a in enumerate(front)}
+                angle.update({a: theta + 120.0 * k for k, a in enumerate(back)})
+
+                def dihedral(a, b, c, d, angle=angle):
+                    # Newman projection: dihedral(front X, c1, c2, back Y) = angle(Y) - angle(X)
+                    if a in angle and d in angle and b == c1:
+                        return _wrap(angle[d] - angle[a])
+                    return _wrap(angle[a] - angle[d])  # reversed path (back atom first)
+
+                values.append(vicinal_j_from_geometry(mol, h1, h2, dihedral))
+        return sum(values) / len(values), _BASIS_CHAIN
+    except Exception:  # never fail a valid molecule: the caller keeps its table value
+        return None
+
+
+def _only_in_3_ring(mol: Chem.Mol, bond: Chem.Bond) -> bool:
+    ri = mol.GetRingInfo()
+    sizes = [len(r) for r in ri.BondRings() if bond.GetIdx() in r]
+    return bool(sizes) and min(sizes) == 3
+
+
+def _ring_pairs(mol: Chem.Mol, pairs) -> list[tuple[int, int, int, int]]:
+    out = []
+    for h1, h2 in pairs:
+        cc = vicinal_fragment(mol, h1, h2)
+        if cc is None:
+            continue
+        bond = mol.GetBondBetweenAtoms(*cc)
+        # three-membered rings are outside the equation's scope (bent bonds): keep the table value
+        if bond.IsInRing() and not bond.GetIsAromatic() and not _only_in_3_ring(mol, bond):
+            out.append((h1, h2, *cc))
+    return out
+
+
+def _labelled_faces(mol: Chem.Mol, seed: int) -> Chem.Mol | None:
+    """A conformer-free copy whose every tetrahedral atom carries the chiral tag read from a reference
+    geometry (the molecule's own 3D conformer if it has one, else one ETKDG embedding): which of two
+    CH2 hydrogens lies on which ring face is then fixed, and only conformations (ring inversion,
+    twists) vary between the conformers embedded from it."""
+    m = Chem.Mol(mol)
+    if not (m.GetNumConformers() and m.GetConformer().Is3D()):
+        m.RemoveAllConformers()
+        params = AllChem.ETKDGv3()
+        params.randomSeed = int(seed)
+        params.numThreads = 1
+        if AllChem.EmbedMolecule(m, params) != 0:
+            return None
+    keep = {a.GetIdx(): a.GetChiralTag() for a in m.GetAtoms()}
+    Chem.AssignAtomChiralTagsFromStructure(m, confId=m.GetConformer().GetId(), replaceExistingTags=True)
+    for a in m.GetAtoms():  # faces matter only at ring atoms; elsewhere keep the input's own tags
+        if not (a.IsInRing() and a.GetDegree() == 4):
+            a.SetChiralTag(keep[a.GetIdx()])
+    m.RemoveAllConformers()
+    return m
+
+
+def ring_vicinal_couplings(mol: Chem.Mol, pairs, n_conformers: int = 8, seed: int = 20240611,
+                           dedupe_deg: float = 10.0) -> dict[tuple[int, int], tuple[float, str]]:
+    """3J for vicinal H–C–C–H pairs across non-aromatic ring bonds, {(h1, h2): (j_hz, basis)}.
+
+    Ring faces of every hydrogen follow the molecule's own 3D conformer when it has one (pass the
+    geometry the configurations were read from, so that the faces match the shift sets), else one
+    embedding with ``seed``. ETKDG conformers (fixed ``seed``, faces enforced) are MMFF-optimised; conformers whose measured dihedrals all
+    agree within ``dedupe_deg`` and whose energies agree within 0.05 kcal/mol count once; the rest are
+    Boltzmann-weighted at 298 K. Pairs that are not such ring pairs are left out. Returns {} when the
+    molecule cannot be embedded.
+    """
+    try:
+        work = _ring_pairs(mol, list(pairs))
+        if not work:
+            return {}
+        m = _labelled_faces(mol, seed)
+        if m is None:
+            return {}
+        params = AllChem.ETKDGv3()
+        params.randomSeed = int(seed)
+        params.numThreads = 1
+        params.enforceChirality = True
+        cids = list(AllChem.EmbedMultipleConfs(m, numConfs=int(n_conformers), params=params))
+        if not cids:
+            return {}
+        energies: list[float | None] = [None] * len(cids)
+        try:
+            if AllChem.MMFFHasAllMoleculeParams(m):
+                res = AllChem.MMFFOptimizeMoleculeConfs(m, numThreads=1, maxIters=300)
+            else:
+                res = AllChem.UFFOptimizeMoleculeConfs(m, numThreads=1, maxIters=300)
+            energies = [e for _, e in res]
+        except Exception:
+            pass
+        kept: list[tuple[int, float | None, list[float]]] = []
+        for cid, e in zip(cids, energies):
+            conf = m.GetConformer(cid)
+            dih = [rdMolTransforms.GetDihedralDeg(conf, h1, c1, c2, h2) for h1, h2, c1, c2 in work]
+            dup = False
+            for _, e2, d2 in kept:
+                same_e = e is None or e2 is None or abs(e - e2) < 0.05
+                if same_e and all(abs(_wrap(a - b)) < dedupe_deg for a, b in zip(dih, d2)):
+                    dup = True
+                    break
+            if not dup:
+                kept.append((cid, e, dih))
+        if all(e is not None for _, e, _ in kept):
+            e0 = min(e for _, e, _ in kept)
+            weights = [math.exp(-(e - e0) / _RT_KCAL) for _, e, _ in kept]
+        else:
+            weights = [1.0] * len(kept)
+        total = sum(weights)
+        basis = _BASIS_RING.format(n=len(kept))
+        out: dict[tuple[int, int], tuple[float, str]] = {}
+        for h1, h2, _, _ in work:
+            acc = 0.0
+            for (cid, _, _), w in zip(kept, weights):
+                conf = m.GetConformer(cid)
+                j = vicinal_j_from_geometry(
+                    m, h1, h2, lambda a, b, c, d, conf=conf: rdMolTransforms.GetDihedralDeg(conf, a, b, c, d))
+                acc += w * j
+            out[(h1, h2)] = (round(acc / total, 2), basis)
+        return out
+    except Exception:  # never fail a valid molecule: the caller keeps its table value
+        return {}

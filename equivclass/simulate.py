@@ -29,12 +29,18 @@ Tr(F+F-) / dim = N * 2/3 I(I+1) is what makes that hold, nothing rescales it).
 
 from __future__ import annotations
 
+import contextlib
+import ctypes
 import itertools
 import math
+import os
+import threading
+from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass
 
 import numpy as np
 import scipy.sparse as sp
+from scipy.sparse.csgraph import connected_components
 
 from equivclass.errors import InputError
 
@@ -238,8 +244,6 @@ def simulate(system: SpinSystem, observe: str, decouple: tuple = (),
 
 def _fragments(jm: np.ndarray) -> list:
     """Connected components of the non-zero coupling graph (lists of indices)."""
-    from scipy.sparse.csgraph import connected_components
-    n = jm.shape[0]
     graph = sp.csr_matrix(np.abs(jm) > ZERO_HZ)
     count, labels = connected_components(graph, directed=False)
     return [np.flatnonzero(labels == c) for c in range(count)]
@@ -403,40 +407,33 @@ def _exact_lines(nu, jm, spins, iso, observe, record):
              if same[k, l] and abs(jm[k, l]) > ZERO_HZ]
     ii = spins * (spins + 1)
 
-    eig = {}
-    for bkey, members in blocks.items():
+    def diagonalise(members):
         mb = m[members]
         nb = members.size
         h = np.zeros((nb, nb))
-        diag = mb @ nu + 0.5 * np.einsum("ij,ij->i", mb @ jz, mb)
-        h[np.arange(nb), np.arange(nb)] = diag
+        h[np.arange(nb), np.arange(nb)] = mb @ nu + 0.5 * np.einsum("ij,ij->i", mb @ jz, mb)
         for k, l in pairs:
             # I+_k I-_l: raise k (digit_k > 0), lower l (digit_l < d_l - 1)
-            dk = digit[members, k]
-            dl = digit[members, l]
-            ok = (dk > 0) & (dl < d[l] - 1)
+            ok = (digit[members, k] > 0) & (digit[members, l] < d[l] - 1)
             if not ok.any():
                 continue
             src = members[ok]
-            dst = src - stride[k] + stride[l]
             mk = mb[ok, k]
             ml = mb[ok, l]
             val = 0.5 * jm[k, l] * np.sqrt((ii[k] - mk * (mk + 1)) * (ii[l] - ml * (ml - 1)))
-            r, c = pos[dst], pos[src]
+            r, c = pos[src - stride[k] + stride[l]], pos[src]
             h[r, c] += val
             h[c, r] += val
-        w, v = np.linalg.eigh(h)
-        eig[bkey] = (w, v)
+        return np.linalg.eigh(h)
 
     obs_idx = np.flatnonzero(obs)
-    freqs, amps = [], []
-    for bkey, members in blocks.items():
+
+    def transitions(bkey):
+        # lowering the observed 2M by 2 with the other isotopes' M fixed
         tkey = bkey - 2 * radix_rest
         if tkey not in blocks:
-            continue
-        # the observed 2M must stay within range: blocks with the same rest
-        # and observed 2M lower by 2 share key - 2*radix_rest
-        target = blocks[tkey]
+            return None
+        members, target = blocks[bkey], blocks[tkey]
         mb = m[members]
         rows, cols, vals = [], [], []
         for k in obs_idx:
@@ -449,17 +446,23 @@ def _exact_lines(nu, jm, spins, iso, observe, record):
             cols.append(pos[src])
             vals.append(np.sqrt(ii[k] - mk * (mk - 1)))
         if not rows:
-            continue
+            return None
         t = sp.csr_matrix((np.concatenate(vals), (np.concatenate(rows), np.concatenate(cols))),
                           shape=(target.size, members.size))
         wi, vi = eig[bkey]
         wf, vf = eig[tkey]
         amp = vf.T @ (t @ vi)
         inten = np.square(amp, out=amp)
-        big = inten > DROP_RELATIVE * inten.max()
-        r, c = np.nonzero(big)
-        freqs.append(wi[c] - wf[r] + centre)
-        amps.append(inten[r, c])
+        r, c = np.nonzero(inten > DROP_RELATIVE * inten.max())
+        return wi[c] - wf[r] + centre, inten[r, c]
+
+    # largest blocks first so that the workers finish together
+    keys = sorted(blocks, key=lambda x: -blocks[x].size)
+    with _parallel_linear_algebra(len(keys)) as run:
+        eig = dict(zip(keys, run(lambda x: diagonalise(blocks[x]), keys)))
+        found = [x for x in run(transitions, keys) if x is not None]
+    freqs = [x[0] for x in found]
+    amps = [x[1] for x in found]
     if not freqs:
         return np.zeros(0), np.zeros(0)
     f = np.concatenate(freqs)
@@ -470,11 +473,80 @@ def _exact_lines(nu, jm, spins, iso, observe, record):
     return f[keep], a[keep]
 
 
+# --------------------------------------------------------------------------- threads
+
+_BLAS_LOCK = threading.RLock()
+_BLAS_CONTROLS = None
+
+
+def _blas_controls() -> list:
+    """(get, set) thread-count functions of every OpenBLAS loaded in this process.
+
+    Found from the process's memory map (Linux); empty elsewhere or for other
+    BLAS builds, in which case blocks are simply done one after another.
+    """
+    global _BLAS_CONTROLS
+    if _BLAS_CONTROLS is not None:
+        return _BLAS_CONTROLS
+    found = []
+    try:
+        with open("/proc/self/maps", encoding="utf-8", errors="replace") as fh:
+            paths = sorted({ln.split()[-1] for ln in fh
+                            if "openblas" in ln.lower() and ".so" in ln.split()[-1]})
+    except OSError:
+        paths = []
+    for path in paths:
+        try:
+            lib = ctypes.CDLL(path)
+        except OSError:
+            continue
+        for suffix in ("64_", "_64_", ""):
+            for prefix in ("scipy_openblas", "openblas"):
+                get = getattr(lib, f"{prefix}_get_num_threads{suffix}", None)
+                put = getattr(lib, f"{prefix}_set_num_threads{suffix}", None)
+                if get is not None and put is not None:
+                    get.restype = ctypes.c_int
+                    get.argtypes = []
+                    put.argtypes = [ctypes.c_int]
+                    found.append((get, put))
+                    break
+            else:
+                continue
+            break
+    _BLAS_CONTROLS = found
+    return found
+
+
+@contextlib.contextmanager
+def _parallel_linear_algebra(tasks: int):
+    """Yield ``run(fn, items) -> list``: items spread over the cores, BLAS single-threaded.
+
+    Independent Fz blocks scale better one per core than one block with a
+    multi-threaded BLAS, and a multi-threaded BLAS degrades badly when the
+    machine is busy.  Falls back to a plain loop when BLAS threads cannot be set.
+    """
+    workers = min(os.cpu_count() or 1, tasks)
+    controls = _blas_controls() if workers > 1 else []
+    if not controls:
+        yield lambda fn, items: [fn(x) for x in items]
+        return
+    with _BLAS_LOCK:
+        saved = [(get(), put) for get, put in controls]
+        for _, put in saved:
+            put(1)
+        try:
+            with ThreadPoolExecutor(max_workers=workers) as pool:
+                yield lambda fn, items: list(pool.map(fn, items))
+        finally:
+            for count, put in saved:
+                put(count)
+
+
 def _merge(f: np.ndarray, a: np.ndarray, tol: float = MERGE_HZ):
     """Sort lines and merge neighbours closer than ``tol`` Hz (intensity-weighted position)."""
     if f.size == 0:
         return f, a
-    order = np.argsort(f, kind="stable")
+    order = np.argsort(f)
     f, a = f[order], a[order]
     start = np.concatenate(([0], np.flatnonzero(np.diff(f) > tol) + 1))
     if start.size == f.size:

@@ -205,7 +205,7 @@ def simulate(system: SpinSystem, observe: str, decouple: tuple = (),
     isotopes = np.array(system.isotopes, dtype=object)
     if observe not in set(system.isotopes):
         raise InputError(f"{record}: no nucleus of the observed isotope {observe}")
-    decouple = tuple(decouple)
+    decouple = (decouple,) if isinstance(decouple, str) else tuple(decouple)
     if observe in decouple:
         raise InputError(f"{record}: the observed isotope {observe} cannot also be decoupled")
     keep = np.array([iso not in decouple for iso in system.isotopes])

@@ -16,6 +16,7 @@ All energies in Hz; H = sum nu_k Iz_k + sum J I.I (same isotope) + sum J Iz Iz
 per nucleus: they sum to the number of observed nuclei.
 """
 
+import json
 import math
 
 import numpy as np
@@ -23,7 +24,7 @@ import pytest
 
 from equivclass.errors import InputError
 from equivclass.simulate import (MAX_BLOCK, SpinSystem, Transitions, equivalent_groups,
-                                 lines, simulate)
+                                 lines, simulate, system_from_mapping)
 
 TOL_HZ = 1e-6
 TOL_REL = 1e-6
@@ -436,3 +437,29 @@ def test_unknown_observed_isotope_is_refused():
     system = SpinSystem((0.0,), ((0.0,),), (0.5,), ("1H",))
     with pytest.raises(InputError, match="19F"):
         simulate(system, "19F")
+
+
+def test_json_spin_system_matches_analytic_ab():
+    text = '{"shifts_hz": [1200.0, 1215.0], "j_hz": [[0, 7.5], [7.5, 0]]}'
+    system = system_from_mapping(json.loads(text), record="ab.json")
+    assert system.isotopes == ("1H", "1H") and system.spins == (0.5, 0.5)
+    t = simulate(system, "1H")
+    _assert_lines(t.freqs_hz, t.intensities, ab_analytic(1200.0, 1215.0, 7.5))
+
+
+@pytest.mark.parametrize("data,fault", [
+    ({"shifts_hz": [0, 1]}, "missing key j_hz"),
+    ({"shifts_hz": [0, 1], "j_hz": [[0, 1], [1]]}, "J matrix"),
+    ({"shifts_hz": [0, 1], "j_hz": [[0, 1], [1, 0]], "colour": 1}, "unknown key"),
+    ([1, 2], "expected an object"),
+    ({"shifts_hz": ["a", 1], "j_hz": [[0, 1], [1, 0]]}, "shifts must be numbers"),
+])
+def test_bad_json_spin_system(data, fault):
+    with pytest.raises(InputError) as err:
+        system_from_mapping(data, record="sys.json")
+    assert fault in str(err.value) and str(err.value).startswith("sys.json:")
+
+
+def test_decouple_accepts_single_isotope_name():
+    system = SpinSystem((0.0, 3.0), ((0, 48.0), (48.0, 0)), (0.5, 0.5), ("1H", "19F"))
+    assert len(simulate(system, "1H", decouple="19F").freqs_hz) == 1

@@ -406,7 +406,7 @@ def flat_rows(result: Result, nuclei: tuple, mhz: float) -> Iterator[dict]:
         labels = {role: " . ".join(s.report["label"] if s.report else "-" for s in result.species
                                    if s.role == role) for role in ("reactant", "product")}
         yield {"record": result.number, "name": result.name, "kind": "reaction", "smiles": result.text,
-               "label": f"{labels['reactant']} >> {labels['product']}",
+               "label": f"{labels['reactant']} >> {labels['product']}" if result.species else "",
                "changes": "; ".join(result.summary["changes"]) if result.summary else "",
                "error": result.error}
     else:

@@ -6,6 +6,7 @@ exit 130 when interrupted (the rows written so far form a valid file).
 """
 from __future__ import annotations
 
+import os
 import sys
 
 import click
@@ -51,6 +52,7 @@ def batch(input_path, output, fmt, layout, column, name_column, jobs, cluster, k
     out = sys.stdout if output == "-" else open(output, "w", encoding="utf-8", newline="")
     n = errors = written = 0
     interrupted = False
+    results = None
     try:
         writer = WRITERS[fmt](out, nuclei=opts.nuclei, mhz=opts.mhz)
         results = run(records, opts, jobs=jobs, scheduler=cluster)
@@ -65,9 +67,12 @@ def batch(input_path, output, fmt, layout, column, name_column, jobs, cluster, k
     except KeyboardInterrupt:
         interrupted = True
     except BrokenPipeError:
-        sys.stderr.close()   # the reader stopped early (e.g. `| head`); nothing more to say
+        # the reader stopped early (e.g. `| head`): nothing more to write or say
+        os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
         sys.exit(0)
     finally:
+        if results is not None:
+            results.close()      # stops worker processes or the cluster client
         if out is not sys.stdout:
             out.close()
     tail = " (interrupted)" if interrupted else ""

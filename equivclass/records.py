@@ -117,7 +117,8 @@ def _sniff(head: list[str], column: str) -> str:
 
 
 def _kind(text: str) -> str:
-    return "reaction" if text.count(">") >= 2 and ">" in text.split()[0] else "smiles"
+    """'>' never occurs in a SMILES, so a structure holding one is (possibly malformed) reaction SMILES."""
+    return "reaction" if ">" in text.split()[0] else "smiles"
 
 
 def _text_fault(text: str) -> str:
@@ -185,8 +186,13 @@ def _sdf_record(number: int, buf: list[str], too_long: bool) -> Record:
 
 
 def _table_records(lines: Iterable[str], sep: str, column: str, name_column, label) -> Iterator[Record]:
+    csv.field_size_limit(max(csv.field_size_limit(), MAX_RECORD_CHARS + 1))
     reader = csv.reader(lines, delimiter=sep)
-    header = next(reader, None)
+    try:
+        header = next(reader, None)
+    except csv.Error as exc:
+        raise InputError(f"{label}: header line cannot be read as {'TSV' if sep == chr(9) else 'CSV'} "
+                         f"({exc})") from None
     if header is None:
         return
     lower = [h.strip().lower() for h in header]
@@ -201,7 +207,15 @@ def _table_records(lines: Iterable[str], sep: str, column: str, name_column, lab
     else:
         name_col = next((lower.index(c) for c in _NAME_COLUMNS if c in lower), None)
     number = 0
-    for row in reader:
+    while True:
+        try:
+            row = next(reader)
+        except StopIteration:
+            return
+        except csv.Error as exc:
+            number += 1
+            yield Record(number, f"record {number}", "", "smiles", f"row cannot be read ({exc})")
+            continue
         if not any(cell.strip() for cell in row):
             continue
         number += 1

@@ -98,6 +98,7 @@ def main():
                                "import resource;print(resource.getrusage(resource.RUSAGE_SELF)"
                                ".ru_maxrss)"], capture_output=True, text=True, check=True)
     base_mib = int(baseline.stdout) / 1024
+    load_start = os.getloadavg()[0]
     rows = []
     for n in args.sizes:
         res = {}
@@ -118,8 +119,9 @@ def main():
         print(f"n={n}: blocked {b['seconds']:.3f} s, naive "
               f"{'-' if nv is None else format(nv['seconds'], '.3f')} s, agree {agree}",
               file=sys.stderr)
-    print(f"Load average at start: {os.getloadavg()[0]:.2f}; interpreter + numpy/scipy "
-          f"baseline RSS {base_mib:.0f} MiB (included in the peaks below).\n")
+    print(f"1-minute load average {load_start:.2f} at start, {os.getloadavg()[0]:.2f} at end; "
+          f"interpreter + numpy/scipy baseline RSS {base_mib:.0f} MiB (included in the "
+          f"peaks below). Times are the best of {args.repeat} runs (one run for 14 spins).\n")
     print("| spins | Fz-blocked `lines()` time | peak RSS | lines | "
           "naive 2^n matrix time | peak RSS | speed-up |")
     print("|---:|---:|---:|---:|---:|---:|---:|")

@@ -335,12 +335,24 @@ def _fragment_lines(nu, jm, spins, iso, observe, use_groups, record):
 
 # --------------------------------------------------------------------------- exact core
 
-def _block_sizes(d: np.ndarray, iso: np.ndarray) -> int:
-    """Size of the largest block when blocking by total Fz of each isotope."""
+def _conserved_groups(jm: np.ndarray, iso: np.ndarray) -> list:
+    """Sets of nuclei whose total Fz is conserved: components of the same-isotope couplings.
+
+    Only homonuclear couplings flip spins (I+I- terms); couplings between
+    isotopes are J Iz Iz, so the total Fz of every component of the
+    homonuclear coupling graph is a good quantum number.
+    """
+    same = (iso[:, None] == iso[None, :]) & (np.abs(jm) > ZERO_HZ)
+    count, labels = connected_components(sp.csr_matrix(same), directed=False)
+    return [np.flatnonzero(labels == c) for c in range(count)]
+
+
+def _largest_block(d: np.ndarray, groups: list) -> int:
+    """Size of the largest block when blocking by the total Fz of each group."""
     largest = 1
-    for name in set(iso.tolist()):
+    for g in groups:
         poly = np.ones(1, dtype=np.int64)
-        for dk in d[iso == name]:
+        for dk in d[g]:
             poly = np.convolve(poly, np.ones(int(dk), dtype=np.int64))
         largest *= int(poly.max())
     return largest
@@ -354,7 +366,8 @@ def _exact_lines(nu, jm, spins, iso, observe, record):
     if dim > MAX_STATES:
         raise InputError(f"{record}: spin system too large to simulate exactly "
                          f"({dim} states; limit {MAX_STATES}); split it into smaller fragments")
-    biggest = _block_sizes(d, iso)
+    groups = _conserved_groups(jm, iso)
+    biggest = _largest_block(d, groups)
     if biggest > MAX_BLOCK:
         raise InputError(f"{record}: spin system too large to simulate exactly "
                          f"(a block of {biggest} states; limit {MAX_BLOCK}); "
@@ -375,18 +388,16 @@ def _exact_lines(nu, jm, spins, iso, observe, record):
     digit = (states[:, None] // stride[None, :]) % d[None, :]   # 0 = highest m
     m = spins[None, :] - digit                                  # (dim, n) float
 
-    names = sorted(set(iso.tolist()), key=lambda x: (x != observe, x))
-    # block key: total 2M per isotope, combined in mixed radix
+    # block key: total 2M of every conserved group, combined in mixed radix
     key = np.zeros(dim, dtype=np.int64)
-    for name in names:
-        sel = iso == name
-        top = int(round(2 * spins[sel].sum()))
-        key = key * (2 * top + 1) + (np.rint(2 * m[:, sel].sum(axis=1)).astype(np.int64) + top)
-    obs_top = int(round(2 * spins[obs].sum()))
-    radix_rest = 1
-    for name in names[1:]:
-        radix_rest *= 2 * int(round(2 * spins[iso == name].sum())) + 1
-    # lowering the observed M by one changes 2M by -2, i.e. key by -2*radix_rest
+    radix = []
+    for g in groups:
+        top = int(round(2 * spins[g].sum()))
+        radix.append(2 * top + 1)
+        key = key * radix[-1] + (np.rint(2 * m[:, g].sum(axis=1)).astype(np.int64) + top)
+    weight = [int(np.prod(radix[i + 1:], dtype=np.int64)) for i in range(len(groups))]
+    # lowering one group's M by one is key - 2*weight, valid while its digit >= 2
+    lowering = [(weight[i], radix[i], g[obs[g]]) for i, g in enumerate(groups) if obs[g].any()]
 
     order = np.argsort(key, kind="stable")
     skey = key[order]
@@ -426,17 +437,15 @@ def _exact_lines(nu, jm, spins, iso, observe, record):
             h[c, r] += val
         return np.linalg.eigh(h)
 
-    obs_idx = np.flatnonzero(obs)
-
-    def transitions(bkey):
-        # lowering the observed 2M by 2 with the other isotopes' M fixed
-        tkey = bkey - 2 * radix_rest
-        if tkey not in blocks:
+    def transitions(job):
+        bkey, (wgt, rdx, spins_here) = job
+        tkey = bkey - 2 * wgt
+        if (bkey // wgt) % rdx < 2 or tkey not in blocks:
             return None
         members, target = blocks[bkey], blocks[tkey]
         mb = m[members]
         rows, cols, vals = [], [], []
-        for k in obs_idx:
+        for k in spins_here:
             ok = digit[members, k] < d[k] - 1
             if not ok.any():
                 continue
@@ -460,7 +469,8 @@ def _exact_lines(nu, jm, spins, iso, observe, record):
     keys = sorted(blocks, key=lambda x: -blocks[x].size)
     with _parallel_linear_algebra(len(keys)) as run:
         eig = dict(zip(keys, run(lambda x: diagonalise(blocks[x]), keys)))
-        found = [x for x in run(transitions, keys) if x is not None]
+        jobs = [(x, low) for x in keys for low in lowering]
+        found = [x for x in run(transitions, jobs) if x is not None]
     freqs = [x[0] for x in found]
     amps = [x[1] for x in found]
     if not freqs:

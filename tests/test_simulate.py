@@ -463,3 +463,37 @@ def test_bad_json_spin_system(data, fault):
 def test_decouple_accepts_single_isotope_name():
     system = SpinSystem((0.0, 3.0), ((0, 48.0), (48.0, 0)), (0.5, 0.5), ("1H", "19F"))
     assert len(simulate(system, "1H", decouple="19F").freqs_hz) == 1
+
+
+def test_proton_with_eight_distinct_fluorines_is_first_order():
+    # 1H coupled to eight inequivalent, mutually uncoupled 19F: 2^8 lines at
+    # nu + sum(+-J_k/2), each 1/256 (first order is exact for J Iz Iz)
+    import itertools
+    js = [3.1, 5.7, 11.0, 17.3, 23.9, 31.1, 47.0, 52.6]
+    n = len(js) + 1
+    jm = np.zeros((n, n))
+    jm[0, 1:] = jm[1:, 0] = js
+    system = SpinSystem((0.0,) + tuple(100.0 * k for k in range(1, n)), jm, (0.5,) * n,
+                        ("1H",) + ("19F",) * (n - 1))
+    t = simulate(system, "1H")
+    expected = [(sum(s * j / 2 for s, j in zip(signs, js)), 1 / 256)
+                for signs in itertools.product((1, -1), repeat=len(js))]
+    _assert_lines(t.freqs_hz, t.intensities, expected)
+
+
+def test_two_proton_pairs_bridged_by_fluorine():
+    # AB-X-CD: two 1H pairs that do not couple to each other, both coupled to one
+    # 19F. Each pair is the AB part of an ABX system (PSB 1959), the union of both.
+    j = np.zeros((5, 5))
+    j[0, 1] = j[1, 0] = 9.0
+    j[2, 3] = j[3, 2] = 13.0
+    j[0, 4] = j[4, 0] = 6.0
+    j[1, 4] = j[4, 1] = -2.0
+    j[2, 4] = j[4, 2] = 4.0
+    j[3, 4] = j[4, 3] = 30.0
+    system = SpinSystem((100.0, 80.0, 400.0, 430.0, 5000.0), j, (0.5,) * 5,
+                        ("1H",) * 4 + ("19F",))
+    t = simulate(system, "1H")
+    first, _ = abx_analytic(100.0, 80.0, 5000.0, 9.0, 6.0, -2.0)
+    second, _ = abx_analytic(400.0, 430.0, 5000.0, 13.0, 4.0, 30.0)
+    _assert_lines(t.freqs_hz, t.intensities, first + second)

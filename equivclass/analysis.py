@@ -5,21 +5,23 @@ shifts → notation → report (DESIGN.md §2). The CLI, the batch runner and th
 """
 from __future__ import annotations
 
+import dataclasses
 import sys
 
 from rdkit import Chem
 
 from . import shifts as shift_rules
-from .couplings import estimate as estimate_couplings, labile_protons
+from .couplings import Coupling, estimate as estimate_couplings, labile_protons
 from .errors import InputError
 from .magnetic import split_all as magnetic_split_all
 from .notation import SetSpec, components, label_fragments
 from .nuclei import active_nuclei
 from .options import Options, make_options
 from .report import CouplingResult, FragmentResult, Report, SetResult, WitnessResult
-from .stereo import configuration, stereoisomers
+from .stereo import configuration, stereoisomers, with_conformer
 from .structure import Structure, read_structure
-from .symmetry import SymmetryTooComplex, build_graph, orbits
+from .symmetry import SymmetryTooComplex, build_graph, orbits, pair_classes
+from . import karplus, listing, multiplets
 
 
 def analyze(structure, options: Options | None = None, **kwargs) -> Report:
@@ -66,6 +68,8 @@ def _stereo_warnings(choice, opts) -> tuple[str, ...]:
 def _analyze_isomer(st: Structure, mol: Chem.Mol, opts: Options, warnings: tuple) -> Report:
     warnings = list(warnings)
     sys.setrecursionlimit(max(sys.getrecursionlimit(), 4 * mol.GetNumAtoms() + 200))
+    if opts.ring_couplings and _has_ring_ch2_ch(mol):
+        mol = with_conformer(mol) or mol
     config = configuration(mol, amide_rotation_fast=opts.amide_rotation_fast)
     if any(p.kind == "amide" for p in config.planar):
         warnings.append("amide C–N rotation treated as slow: one rotamer analysed "
@@ -83,6 +87,9 @@ def _analyze_isomer(st: Structure, mol: Chem.Mol, opts: Options, warnings: tuple
     labile = frozenset() if opts.labile_coupled else labile_protons(mol)
     partners = [a for a, n in by_atom.items() if not n.dilute]
     couplings = estimate_couplings(mol, config, partners, decoupled=labile, threshold_hz=opts.threshold_hz)
+    if opts.ring_couplings:
+        couplings = _with_ring_karplus(mol, couplings, opts.threshold_hz)
+    couplings = _symmetrized(couplings, orb.generators)
     jmap = {frozenset((c.a, c.b)): c for c in couplings}
     user_shifts = _user_shift_map(st, orb.sets, opts, by_atom)
 
@@ -106,7 +113,8 @@ def _analyze_isomer(st: Structure, mol: Chem.Mol, opts: Options, warnings: tuple
         raw.append((members, nuc, subsets, split, ppm, basis))
 
     # order sets: isotope by |γ| (descending), then lowest shift first
-    raw.sort(key=lambda r: (-abs(r[1].isotope.gamma), r[1].isotope.symbol, r[4], r[0][0]))
+    raw.sort(key=lambda r: (-abs(r[1].isotope.gamma), r[1].isotope.symbol, r[4], graph.colour[r[0][0]],
+                            len(r[0]), len(r[2]), r[0][0]))
     specs = [SetSpec(r[1].isotope, tuple(r[0]), tuple(r[2]), r[4]) for r in raw]
     frags = label_fragments(specs, couplings, opts.mhz)
     frag_of, letter_of = {}, {}
@@ -137,12 +145,58 @@ def _analyze_isomer(st: Structure, mol: Chem.Mol, opts: Options, warnings: tuple
     label = " + ".join(f.label for f in fragments)
     label_ascii = " + ".join(f.label_ascii for f in fragments)
     smiles = Chem.MolToSmiles(Chem.RemoveHs(mol, sanitize=False))
-    return Report(
+    report = Report(
         name=st.name, input=st.input_text, smiles=smiles, mhz=opts.mhz,
         nuclei=tuple(opts.nuclei), label=label, label_ascii=label_ascii, fragments=fragments,
         sets=tuple(sets),
         couplings=tuple(CouplingResult((c.a, c.b), c.j_hz, c.basis, c.n_bonds) for c in couplings),
         warnings=tuple(warnings), options=_options_dict(opts), mol=mol)
+    base = report.to_dict()
+    mults = multiplets.annotate(base, mol)
+    return dataclasses.replace(report, multiplets={i: multiplets.to_json(m) for i, m in mults.items()},
+                               listing=listing.journal_listings(base, mults))
+
+
+def _has_ring_ch2_ch(mol: Chem.Mol) -> bool:
+    """True when some non-aromatic ring bond joins two sp3 carbons that both carry hydrogen."""
+    for b in mol.GetBonds():
+        if not b.IsInRing() or b.GetIsAromatic():
+            continue
+        ends = (b.GetBeginAtom(), b.GetEndAtom())
+        if all(a.GetAtomicNum() == 6 and a.GetHybridization() == Chem.HybridizationType.SP3 and
+               any(n.GetAtomicNum() == 1 for n in a.GetNeighbors()) for a in ends):
+            return True
+    return False
+
+
+def _with_ring_karplus(mol, couplings, threshold_hz):
+    """Replace table values of vicinal H–H across ring bonds by Karplus values on the same geometry."""
+    pairs = [(c.a, c.b) for c in couplings if c.n_bonds == 3 and c.basis == "HH3_sp3"]
+    if not pairs:
+        return couplings
+    found = karplus.ring_vicinal_couplings(mol, pairs)
+    out = []
+    for c in couplings:
+        hit = found.get((c.a, c.b)) or found.get((c.b, c.a))
+        if hit is None:
+            out.append(c)
+        elif abs(hit[0]) >= threshold_hz:
+            out.append(Coupling(c.a, c.b, hit[0], hit[1], c.n_bonds))
+    return tuple(out)
+
+
+def _symmetrized(couplings, generators):
+    """Symmetry-related pairs get one value: the mean over each class of pairs (estimates from one
+    conformer are not exactly symmetric)."""
+    by_pair = {(min(c.a, c.b), max(c.a, c.b)): c for c in couplings}
+    out = {}
+    for cls in pair_classes(by_pair, generators):
+        js = [by_pair[p].j_hz for p in cls]
+        mean = round(sum(js) / len(js), 2)
+        for p in cls:
+            c = by_pair[p]
+            out[p] = c if len(cls) == 1 else Coupling(c.a, c.b, mean, c.basis, c.n_bonds)
+    return tuple(out[p] for p in sorted(out))
 
 
 def _mol_with_planar_geometry(mol: Chem.Mol, config) -> Chem.Mol:

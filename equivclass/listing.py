@@ -51,8 +51,11 @@ def journal_listing(report_dict: dict, multiplets: dict, isotope: str = "1H") ->
         m = multiplets.get(s["index"])
         mult = m.multiplicity if m is not None else "m"
         count = float(m.integral) if m is not None else float(len(s["atoms"]))
-        js = tuple(m.j_hz) if m is not None and mult not in ("m", "s", "br s") else ()
+        apparent = getattr(m, "apparent", "") if m is not None else ""
+        js = tuple(m.j_hz) if m is not None and (apparent or mult not in ("m", "s", "br s")) else ()
         d = float(s["shift_ppm"])
+        if apparent:
+            mult = f"m, app. {apparent}"
         if mult == "m" and entries and entries[-1][2] == "m" and entries[-1][1] - d <= RANGE_PPM + 1e-9:
             hi, _, _, c = entries[-1]
             entries[-1] = (hi, d, "m", c + count)

@@ -38,9 +38,11 @@ def _describe(mol, a, b, n, ja: Coupling | None, jb: Coupling | None) -> str:
         if c is None:
             return f"{_name(mol, x)}–{_name(mol, n)} not coupled"
         return f"{_name(mol, x)}–{_name(mol, n)} over {c.n_bonds} bonds (J ≈ {abs(c.j_hz):.1f} Hz)"
-    tail = "" if (ja is None) != (jb is None) or (ja and jb and ja.j_hz != jb.j_hz) else \
-        ", not related by symmetry"
-    return f"{part(a, ja)} but {part(b, jb)}{tail}"
+    if ja is not None and jb is not None and ja.n_bonds == jb.n_bonds and ja.j_hz == jb.j_hz:
+        return (f"{_name(mol, a)}–{_name(mol, n)} and {_name(mol, b)}–{_name(mol, n)} both over "
+                f"{ja.n_bonds} bonds (J ≈ {abs(ja.j_hz):.1f} Hz), but no symmetry operation maps one pair "
+                f"onto the other, so the couplings are not equal by symmetry")
+    return f"{part(a, ja)} but {part(b, jb)}"
 
 
 def split_all(mol: Chem.Mol, g: Graph, sets, partners, jmap: dict, chiral_medium: bool) -> list[MagneticSplit]:

@@ -59,6 +59,7 @@ class Multiplet:
     lines: tuple[tuple[float, float], ...]
     satellites: tuple[dict, ...]
     reason: str
+    apparent: str = ""   # for "m" sets that look first order: the pattern they appear as ("t", "dt" …)
 
 
 # --------------------------------------------------------------------------- patterns
@@ -322,6 +323,7 @@ def annotate(report_dict: dict, mol) -> dict[int, Multiplet]:
             out[idx] = Multiplet(integral, "br s", (), main, _satellites(mol, r, observed, main), "")
             continue
         reasons: list[str] = []
+        apparent: list[str] = []
         own_subsets = [sub for sub in s.get("magnetic_subsets", [atoms])
                        if any(comp[a] == comp[r] for a in sub)]
         if len(own_subsets) > 1:
@@ -329,7 +331,10 @@ def annotate(report_dict: dict, mol) -> dict[int, Multiplet]:
             wit = s.get("witnesses") or []
             if wit and wit[0].get("reason"):
                 why += f" ({wit[0]['reason']})"
-            reasons.append(why)
+            if _equal_outside_couplings(atoms, comp, r, neighbours, set(atoms)):
+                apparent.append(why)
+            else:
+                reasons.append(why)
         partners: dict[int, list[tuple[int, float]]] = {}
         for b, j in neighbours.get(r, []):
             p = atom_set.get(b)
@@ -342,10 +347,13 @@ def annotate(report_dict: dict, mol) -> dict[int, Multiplet]:
             subsets = [sub for sub in ps.get("magnetic_subsets", [ps["atoms"]])
                        if any(b in sub for b, _ in hits)]
             js = {round(abs(j), 3) for _, j in hits}
-            if len(subsets) > 1 or max(js) - min(js) > 1e-3:
+            if max(js) - min(js) > 1e-3:
                 reasons.append(f"partner {_letter(sets, p)} is magnetically inequivalent with respect to "
                                f"atom {r} (couples through {len(subsets)} subsets)")
                 continue
+            if len(subsets) > 1:
+                apparent.append(f"partner {_letter(sets, p)} couples to atom {r} through {len(subsets)} "
+                                f"magnetic subsets with equal estimated J")
             if ps["isotope"] == observed and frozenset((idx, p)) in strong:
                 reasons.append(f"strongly coupled to {_letter(sets, p)} at {mhz:g} MHz (|Δν| < 10|J|)")
                 continue
@@ -369,8 +377,24 @@ def annotate(report_dict: dict, mol) -> dict[int, Multiplet]:
         reason = ""
         if name == "m":
             reason = f"first-order pattern of {len(main)} lines has no short name"
+        elif apparent:
+            reason = (f"magnetically inequivalent, so strictly second order; the estimated couplings are "
+                      f"equal, so it appears as a {name} (deceptively simple); simulate to see the fine "
+                      f"structure")
+            out[idx] = Multiplet(integral, "m", j_list, main, _satellites(mol, r, observed, main), reason,
+                                 apparent=name)
+            continue
         out[idx] = Multiplet(integral, name, j_list, main, _satellites(mol, r, observed, main), reason)
     return out
+
+
+def _equal_outside_couplings(atoms, comp, r, neighbours, inside) -> bool:
+    """True when every member of the set in r's fragment copy has the same |J| to each outside nucleus
+    as r has (the inequivalence is by symmetry only, not in the estimated couplings)."""
+    def profile(a):
+        return sorted((round(abs(j), 2)) for b, j in neighbours.get(a, []) if b not in inside)
+    ref = profile(r)
+    return all(profile(a) == ref for a in atoms if comp[a] == comp[r])
 
 
 def to_json(m: Multiplet) -> dict:
@@ -382,4 +406,5 @@ def to_json(m: Multiplet) -> dict:
         "lines": [[p, w] for p, w in m.lines],
         "satellites": [dict(s, lines=[[p, w] for p, w in s["lines"]]) for s in m.satellites],
         "reason": m.reason,
+        "apparent_multiplicity": m.apparent or None,
     }

@@ -120,8 +120,8 @@ def label_fragments(sets: list[SetSpec], couplings, mhz: float) -> list[Fragment
         sig = tuple(sorted({atom_set[a] for a in comp}))
         by_signature.setdefault(sig, []).append(comp)
     out = []
-    for sig, group in sorted(by_signature.items(), key=lambda kv: min(min(c) for c in kv[1])):
-        comp = min(group, key=min)
+    for sig, group in sorted(by_signature.items(), key=lambda kv: kv[0]):
+        comp = min(group, key=lambda c: sorted(atom_set[a] for a in c))
         out.append(_label_one(sets, sig, comp, len(group), jmax, couplings, atom_set, mhz))
     return out
 
@@ -129,7 +129,7 @@ def label_fragments(sets: list[SetSpec], couplings, mhz: float) -> list[Fragment
 def _label_one(sets, sig, comp, copies, jmax, couplings, atom_set, mhz) -> FragmentLabel:
     comp_set = set(comp)
     order = sorted(sig, key=lambda i: (-abs(sets[i].isotope.gamma), sets[i].isotope.symbol,
-                                       sets[i].shift_ppm, min(sets[i].atoms)))
+                                       sets[i].shift_ppm, i))
     strong_pairs, threshold = [], 0.0
     inequivalent = False
     never_first_order = False

@@ -25,6 +25,7 @@ class Options:
     threshold_hz: float = DEFAULT_THRESHOLD_HZ
     max_heavy_atoms: int = DEFAULT_MAX_HEAVY_ATOMS
     stereoisomer: int = 0
+    ring_couplings: bool = True     # Karplus on an embedded conformer for vicinal H–H across ring bonds
     shifts: tuple = field(default_factory=tuple)   # ((atom index, ppm), ...) given by the user
 
     def isotopes(self) -> tuple:
@@ -45,6 +46,7 @@ class Options:
 
 def make_options(**kwargs) -> Options:
     """Options from keyword arguments; unknown names are an error naming the option."""
+    kwargs = {k: v for k, v in kwargs.items() if k != "name"}
     known = set(Options.__dataclass_fields__)
     unknown = sorted(set(kwargs) - known)
     if unknown:

@@ -73,6 +73,8 @@ class Report:
     warnings: tuple[str, ...]
     options: dict = field(default_factory=dict)
     mol: object = None             # the analysed explicit-H RDKit molecule (for drawing)
+    multiplets: dict = field(default_factory=dict)   # set index -> first-order multiplet (JSON form)
+    listing: str = ""              # journal-style listing per observed isotope
 
     def to_dict(self) -> dict:
         return {
@@ -99,10 +101,12 @@ class Report:
                                "reason": w.reason, "within_copy": w.within_copy} for w in s.witnesses],
                 "exchange_decoupled": s.exchange_decoupled, "dilute": s.dilute,
                 "couplings": [dict(c) for c in s.couplings],
+                **self.multiplets.get(s.index, {}),
             } for s in self.sets],
             "couplings": [{"atoms": list(c.atoms), "j_hz": c.j_hz, "j_basis": c.j_basis,
                            "n_bonds": c.n_bonds} for c in self.couplings],
             "warnings": list(self.warnings),
+            "listing": self.listing,
             "options": dict(self.options),
             "caution": CAUTION,
         }
@@ -112,7 +116,8 @@ class Report:
                  f"  structure  {self.smiles}",
                  f"  field      {self.mhz:g} MHz (1H); observed {', '.join(self.nuclei)}",
                  f"  label      {self.label}", ""]
-        header = f"{'set':>3}  {'letter':<7} {'nucleus':<7} {'n':>3}  {'δ est.':>7}  {'atoms':<24} relation"
+        header = (f"{'set':>3}  {'letter':<7} {'nucleus':<7} {'n':>3}  {'δ est.':>7}  {'pattern':<16} "
+                  f"{'atoms':<24} relation")
         lines.append(header)
         lines.append("-" * len(header))
         for s in self.sets:
@@ -130,7 +135,7 @@ class Report:
             if s.dilute:
                 rel += "; dilute (satellites only)"
             lines.append(f"{s.index:>3}  {letter:<7} {s.isotope:<7} {len(s.atoms):>3}  {s.shift_ppm:>7.2f}  "
-                         f"{atoms:<24} {rel}")
+                         f"{_pattern(self.multiplets.get(s.index)):<16} {atoms:<24} {rel}")
         splits = [(s, w) for s in self.sets for w in s.witnesses if w.within_copy]
         if splits:
             lines += ["", "Magnetically inequivalent:"]
@@ -140,10 +145,24 @@ class Report:
         for f in self.fragments:
             sets = ",".join(map(str, f.sets))
             lines.append(f"  {f.index}: {f.label:<18} sets {sets}  — {_first_order_sentence(f, self.mhz)}")
+        notes = [(i, m["reason"]) for i, m in sorted(self.multiplets.items()) if m.get("reason")]
+        if notes:
+            lines += ["", "Patterns:"] + [f"  set {i}: {why}" for i, why in notes]
+        if self.listing:
+            lines += ["", "Predicted listing:"] + [f"  {ln}" for ln in self.listing.splitlines()]
         if self.warnings:
             lines += ["", "Warnings:"] + [f"  {w}" for w in self.warnings]
         lines += ["", CAUTION]
         return "\n".join(lines)
+
+
+def _pattern(m: dict | None) -> str:
+    """Multiplicity with its J values, e.g. "dt 7.0, 1.5"."""
+    if not m:
+        return ""
+    js = ", ".join(f"{j:.1f}" for j in m.get("j_hz", ()))
+    name = m["multiplicity"] + (f" (app. {m['apparent_multiplicity']})" if m.get("apparent_multiplicity") else "")
+    return f"{name} {js}".strip() if (js and name != "m") else name
 
 
 def _set_letters(s: SetResult, fragments) -> str:

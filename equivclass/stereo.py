@@ -118,11 +118,10 @@ def configuration(mol: Chem.Mol, amide_rotation_fast: bool = False) -> Configura
     ring_info = mol.GetRingInfo()
     centre_atoms = [a for a in mol.GetAtoms() if _is_tetrahedral_centre(a)]
     coords = None
-    if any(ring_info.NumAtomRings(a.GetIdx()) >= 2 for a in centre_atoms):
-        if mol.GetNumConformers() and mol.GetConformer().Is3D():
-            coords = mol.GetConformer().GetPositions()
-        else:
-            coords = _embedded_coordinates(mol)
+    if mol.GetNumConformers() and mol.GetConformer().Is3D():
+        coords = mol.GetConformer().GetPositions()
+    elif any(ring_info.NumAtomRings(a.GetIdx()) >= 2 for a in centre_atoms):
+        coords = _embedded_coordinates(mol)
     centres = []
     for atom in centre_atoms:
         idx = atom.GetIdx()
@@ -195,9 +194,9 @@ def _signed_volume(coords, centre: int, nbrs) -> int:
     """Orientation (±1) of the ordered neighbours around a centre in 3D."""
     import numpy as np
     c = coords[centre]
-    if len(nbrs) == 4:
+    if len(nbrs) == 4:  # sign chosen so that +1 is the handedness of RDKit's CCW tag
         p0, p1, p2, p3 = (coords[n] for n in nbrs)
-        vol = np.linalg.det(np.array([p1 - p0, p2 - p0, p3 - p0]))
+        vol = -np.linalg.det(np.array([p1 - p0, p2 - p0, p3 - p0]))
     else:
         vol = np.linalg.det(np.array([coords[n] - c for n in nbrs[:3]]))
     return 1 if vol > 0 else -1
@@ -295,6 +294,14 @@ def stereoisomers(mol: Chem.Mol, limit: int = MAX_STEREOISOMERS,
         if len(out) >= limit:
             break
     return StereoChoice(tuple(out) or (mol,), descr, tuple(notes))
+
+
+def with_conformer(mol: Chem.Mol):
+    """The molecule with one embedded 3D conformer that keeps its stereo tags (itself if it has one;
+    None if embedding fails). Configurations and ring geometry are then read from the same atoms."""
+    if mol.GetNumConformers() and mol.GetConformer().Is3D():
+        return mol
+    return _with_embedded_configuration(mol, [])
 
 
 def _with_embedded_configuration(mol: Chem.Mol, atoms):

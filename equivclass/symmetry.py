@@ -346,9 +346,10 @@ class Orbits:
     sets: tuple[tuple[int, ...], ...]           # orbits of G in the chosen medium
     proper: tuple[tuple[int, ...], ...]         # orbits of G+ (homotopic classes)
     enantiotopic_pairs: tuple[tuple[int, int], ...]  # proper orbits related only by improper operations
+    generators: tuple = ()                      # the elements of G found on the way (atom images)
 
 
-def _orbits_under(g: Graph, atoms, signs, uf: _UnionFind):
+def _orbits_under(g: Graph, atoms, signs, uf: _UnionFind, found: list):
     atom_set = set(atoms)
     by_colour = {}
     for a in atoms:
@@ -364,6 +365,7 @@ def _orbits_under(g: Graph, atoms, signs, uf: _UnionFind):
                 img = next((im for im in (find_symmetry(g, {r: m}, sign) for sign in signs)
                             if im is not None), None)
                 if img is not None:
+                    found.append(img)
                     for a in atom_set:
                         if img[a] in atom_set:
                             uf.union(a, img[a])
@@ -376,7 +378,8 @@ def orbits(g: Graph, atoms, chiral_medium: bool = False) -> Orbits:
     """Chemical-equivalence sets of `atoms`: orbits of G (proper only in a chiral medium)."""
     atoms = sorted(atoms)
     uf_p = _UnionFind(atoms)
-    _orbits_under(g, atoms, (1,), uf_p)
+    found = []
+    _orbits_under(g, atoms, (1,), uf_p, found)
     proper = uf_p.groups()
     enantio = []
     uf_g = _UnionFind(atoms)
@@ -393,12 +396,37 @@ def orbits(g: Graph, atoms, chiral_medium: bool = False) -> Orbits:
                 for s in members[i + 1:]:
                     if uf_g.find(r) == uf_g.find(s) and not chiral_medium:
                         continue
-                    if find_symmetry(g, {r: s}, -1) is not None:
+                    img = find_symmetry(g, {r: s}, -1)
+                    if img is not None:
+                        if not chiral_medium:
+                            found.append(img)
                         enantio.append((r, s))
                         if not chiral_medium:
                             uf_g.union(r, s)
     sets = proper if chiral_medium else uf_g.groups()
-    return Orbits(tuple(tuple(s) for s in sets), tuple(tuple(p) for p in proper), tuple(enantio))
+    return Orbits(tuple(tuple(s) for s in sets), tuple(tuple(p) for p in proper), tuple(enantio),
+                  tuple(found))
+
+
+def pair_classes(pairs, generators) -> list[list[tuple[int, int]]]:
+    """Classes of unordered atom pairs under the group the `generators` generate (closure by search)."""
+    pairs = {tuple(sorted(p)) for p in pairs}
+    seen, classes = set(), []
+    for p in sorted(pairs):
+        if p in seen:
+            continue
+        cls, stack = [], [p]
+        seen.add(p)
+        while stack:
+            q = stack.pop()
+            cls.append(q)
+            for img in generators:
+                r = tuple(sorted((img[q[0]], img[q[1]])))
+                if r in pairs and r not in seen:
+                    seen.add(r)
+                    stack.append(r)
+        classes.append(cls)
+    return classes
 
 
 def pair_related(g: Graph, a: int, b: int, n: int, chiral_medium: bool = False) -> bool:

@@ -114,12 +114,6 @@ def test_parity_matches_signed_volume_within_each_molecule():
             assert len(signs) == 1, f"{name}: parities of {k}-neighbour centres disagree with geometry"
 
 
-@pytest.mark.xfail(strict=True, reason=(
-    "Centre.parity has no single meaning: stereo.configuration reads parities from chiral tags for "
-    "molecules without ring-fusion centres (CW = -1) but from an embedded conformer otherwise, and "
-    "stereo._signed_volume uses det(p1-p0, p2-p0, p3-p0) for four neighbours, the opposite handedness "
-    "of the tag reading (camphor, cholesterol), while three-neighbour centres use det(p-c) with the tag "
-    "handedness; harmless for G (one source per molecule, centres map only to same-degree centres)"))
 def test_parity_convention_is_one_for_the_whole_program():
     rel = [r for name, smi in [*MOLECULES, POLYCYCLIC_SULFOXIDE] for r in _relations(name, smi)]
     signs = [r[3] for r in rel]

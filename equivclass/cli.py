@@ -89,6 +89,10 @@ def model_options(func):
                      help="Couplings below this |J| (Hz) count as zero."),
         click.option("--max-atoms", "max_heavy_atoms", type=int, default=300, show_default=True,
                      help="Refuse structures with more heavy atoms than this."),
+        click.option("--ring-couplings", type=click.Choice(["karplus", "table"]), default="karplus",
+                     show_default=True,
+                     help="Vicinal H–H across ring bonds: Karplus on embedded conformers, or table values "
+                          "(faster)."),
     ]
     for d in reversed(decorators):
         func = d(func)
@@ -98,7 +102,8 @@ def model_options(func):
 def options_from(kw) -> dict:
     return {"mhz": kw["mhz"], "nuclei": kw["nuclei"], "amide_rotation_fast": kw["amide_rotation"] == "fast",
             "labile_coupled": kw["labile_coupled"], "chiral_medium": kw["chiral_medium"],
-            "threshold_hz": kw["threshold_hz"], "max_heavy_atoms": kw["max_heavy_atoms"]}
+            "threshold_hz": kw["threshold_hz"], "max_heavy_atoms": kw["max_heavy_atoms"],
+            "ring_couplings": kw.get("ring_couplings", "karplus") == "karplus"}
 
 
 @click.group(context_settings={"help_option_names": ["-h", "--help"]})
@@ -118,8 +123,10 @@ def main():
               help="Your own shift for an atom (0-based index); applies to its whole set. Repeatable.")
 @click.option("--shift-file", type=click.Path(dir_okay=False), default=None,
               help="CSV (atom,ppm) or JSON file of your own shifts.")
+@click.option("--picture", "picture_path", type=click.Path(dir_okay=False), default=None,
+              metavar="FILE.svg|FILE.png", help="Also write the annotated structure (format from the suffix).")
 @guarded
-def label(structure, fmt, stereoisomer, each_stereoisomer, shift_values, shift_file, **kw):
+def label(structure, fmt, stereoisomer, each_stereoisomer, shift_values, shift_file, picture_path, **kw):
     """Chemical sets, magnetic subsets, fragments and the spin-system label of STRUCTURE.
 
     STRUCTURE is a SMILES, a MOL/SDF file (first record), or '-' to read standard input.
@@ -133,6 +140,15 @@ def label(structure, fmt, stereoisomer, each_stereoisomer, shift_values, shift_f
         reports = analyze_each_stereoisomer(structure, **opts)
     else:
         reports = [analyze(structure, stereoisomer=stereoisomer, **opts)]
+    if picture_path:
+        from .draw import picture_format, write_picture
+        picture_format(picture_path)
+        if len(reports) == 1:
+            write_picture(reports[0], picture_path)
+        else:
+            stem, _, ext = picture_path.rpartition(".")
+            for k, r in enumerate(reports):
+                write_picture(r, f"{stem}_{k}.{ext}")
     if fmt == "json":
         payload = [r.to_dict() for r in reports]
         click.echo(json.dumps(payload if each_stereoisomer else payload[0], indent=2, ensure_ascii=False))

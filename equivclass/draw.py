@@ -281,3 +281,26 @@ def draw(report, fmt: str = "svg", size: tuple = (520, 420)):
     svg = re.sub(r"<\?xml[^>]*\?>", "<?xml version='1.0' encoding='utf-8'?>", drawer.GetDrawingText(), count=1)
     end = svg.rindex("</svg>")
     return svg[:end] + "\n".join(elems) + "\n" + svg[end:]
+
+
+def picture_format(path: str) -> str:
+    low = path.lower()
+    for ext in ("svg", "png"):
+        if low.endswith("." + ext):
+            return ext
+    raise InputError(f"{path}: picture file must end in .svg or .png")
+
+
+def write_picture(report, path: str, size: tuple = (520, 440)) -> None:
+    """Write report's annotated structure to PATH (.svg or .png)."""
+    fmt = picture_format(path)
+    data = draw(report, fmt, size=size)
+    try:
+        if fmt == "svg":
+            with open(path, "w", encoding="utf-8") as fh:
+                fh.write(data)
+        else:
+            with open(path, "wb") as fh:
+                fh.write(data)
+    except OSError as exc:
+        raise InputError(f"{path}: cannot write picture ({exc.strerror})") from None

@@ -1,6 +1,6 @@
 """Commands `equivclass serve` (the local web page) and `equivclass draw` (annotated picture).
 
-Registered on the `main` group by the last lines of cli.py. `picture_option_hook(report, path)` writes
+Registered on the `main` group by the last lines of cli.py. `write_picture(report, path)` writes
 the picture for a command that already has a Report (SVG or PNG by the file's suffix).
 """
 from __future__ import annotations
@@ -8,32 +8,8 @@ from __future__ import annotations
 import click
 
 from .cli import guarded, model_options, options_from
+from .draw import picture_format, write_picture
 from .errors import InputError
-
-
-def _suffix(path: str) -> str:
-    low = path.lower()
-    for ext in ("svg", "png"):
-        if low.endswith("." + ext):
-            return ext
-    raise InputError(f"{path}: picture file must end in .svg or .png")
-
-
-def picture_option_hook(report, path: str, size: tuple = (520, 440)) -> None:
-    """Write report's annotated structure to PATH (.svg or .png)."""
-    from .draw import draw
-
-    fmt = _suffix(path)
-    data = draw(report, fmt, size=size)
-    try:
-        if fmt == "svg":
-            with open(path, "w", encoding="utf-8") as fh:
-                fh.write(data)
-        else:
-            with open(path, "wb") as fh:
-                fh.write(data)
-    except OSError as exc:
-        raise InputError(f"{path}: cannot write picture ({exc.strerror})") from None
 
 
 @click.command("draw")
@@ -52,9 +28,9 @@ def draw_command(structure, output, html_path, size, stereoisomer, **kw):
     """Draw STRUCTURE with every active nucleus marked by its letter and primes, one colour per set."""
     from .analysis import analyze
 
-    _suffix(output)
+    picture_format(output)
     report = analyze(structure, stereoisomer=stereoisomer, **options_from(kw))
-    picture_option_hook(report, output, size=tuple(size))
+    write_picture(report, output, size=tuple(size))
     if html_path:
         from .html_report import html_report, simulated_spectrum_svg
 

@@ -146,7 +146,7 @@ def write_jcamp(path, ppm_axis, intensity, observe_mhz: float, nucleus: str, tit
     yfactor = ymax / 1e8 if ymax > 0 else 1.0
     yint = np.rint(y / yfactor).astype(np.int64)
     xfactor = abs(deltax) / 1000.0 if deltax != 0 else 1.0
-    m = re_nucleus(nucleus)
+    m = _nucleus_label(nucleus)
     head = [
         f"##TITLE={title.splitlines()[0] if title else 'simulated spectrum'}",
         "##JCAMP-DX=5.01",
@@ -182,7 +182,7 @@ def write_jcamp(path, ppm_axis, intensity, observe_mhz: float, nucleus: str, tit
         fh.write(out.getvalue())
 
 
-def re_nucleus(nucleus: str) -> str:
+def _nucleus_label(nucleus: str) -> str:
     """'1H' -> '1H' (mass number then element symbol); reject anything else."""
     s = str(nucleus).strip()
     digits = "".join(ch for ch in s if ch.isdigit())
@@ -224,7 +224,7 @@ def _draw(plt, path, ext, x, y, nucleus, title, sticks):
                 scale = 0.3 * y.max() / sy.max()
                 ax.vlines(sx, 0, sy * scale, color="#b03a2e", lw=0.7, alpha=0.8)
         ax.set_xlim(x.max(), x.min())                # chemists read right to left
-        ax.set_xlabel(f"δ({re_nucleus(nucleus)}) / ppm")
+        ax.set_xlabel(f"δ({_nucleus_label(nucleus)}) / ppm")
         ax.set_yticks([])
         for side in ("left", "right", "top"):
             ax.spines[side].set_visible(False)

@@ -186,3 +186,8 @@ def test_svg_plot_has_reversed_ppm_axis_and_footer(tmp_path):
 def test_plot_refuses_unknown_format(tmp_path):
     with pytest.raises(InputError):
         plot(str(tmp_path / "s.jpg"), np.arange(3.0), np.ones(3), "1H", "t")
+
+
+def test_jcamp_refuses_malformed_nucleus(tmp_path):
+    with pytest.raises(InputError, match="like 1H"):
+        write_jcamp(str(tmp_path / "n.jdx"), np.linspace(0, 1, 5), np.ones(5), MHZ, "H1", "n")

@@ -86,6 +86,10 @@ def isotope(name: str | Isotope) -> Isotope:
     """Return the isotope named ``name`` ("1H", "H1", "h-1", "C13" ...); unknown names raise InputError."""
     if isinstance(name, Isotope):
         return name
+    if isinstance(name, str):
+        hit = _table()[1].get(name)
+        if hit is not None:
+            return hit
     if not isinstance(name, str) or not name.strip():
         raise InputError(f"isotope {name!r}: expected a name such as '1H' or '13C'")
     found = _table()[1].get(_canonical_name(name))

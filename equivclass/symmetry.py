@@ -10,6 +10,7 @@ proper-only orbits separate homotopic from enantiotopic members (Mislow–Raban)
 """
 from __future__ import annotations
 
+from collections import deque
 from dataclasses import dataclass
 
 from rdkit import Chem
@@ -220,14 +221,12 @@ class _Search:
         order, anchor = [], []
         for r in roots:
             seen[r] = True
-        heavy_queue = []
-        for r in roots:
-            heavy_queue.append(r)
+        heavy_queue = deque(roots)
         starts = [i for i in range(g.n) if g.heavy[i]] + list(range(g.n))
         si = 0
         while True:
             while heavy_queue:
-                x = heavy_queue.pop(0)
+                x = heavy_queue.popleft()
                 for w in g.nbrs[x]:
                     if not seen[w]:
                         seen[w] = True

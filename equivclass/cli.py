@@ -162,3 +162,7 @@ main.add_command(batch)
 from .web_cli import draw_command, serve  # noqa: E402
 main.add_command(serve)
 main.add_command(draw_command)
+
+from .spectrum_cli import spectrum_command, system_command  # noqa: E402
+main.add_command(spectrum_command)
+main.add_command(system_command)

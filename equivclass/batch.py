@@ -15,9 +15,11 @@ import json
 import multiprocessing
 import re
 import signal
+import threading
 from collections import Counter, deque
 from concurrent.futures import ProcessPoolExecutor
 from concurrent.futures.process import BrokenProcessPool
+from contextlib import contextmanager
 from dataclasses import dataclass
 from typing import Iterable, Iterator
 
@@ -36,6 +38,7 @@ PROPERTIES = ("inequivalent", "diastereotopic", "second-order")
 ROLES = ("reactant", "agent", "product")
 CHUNK_SIZE = 8
 WINDOW_PER_WORKER = 4
+TIME_LIMIT = 60.0               # seconds one structure may take before it becomes an error row
 CONNECT_TIMEOUT = "20s"        # how long to wait for a cluster scheduler
 _ATOM_MAP = re.compile(r":\d+\]")
 
@@ -62,14 +65,43 @@ class Result:
 
 # --------------------------------------------------------------------------------------------- analysis
 
-def analyse_record(record: Record, options: Options) -> Result:
-    """Analyse one record; never raises for a fault of the input or of the program."""
+class _Overtime(Exception):
+    pass
+
+
+def _raise_overtime(signum, frame):
+    raise _Overtime()
+
+
+@contextmanager
+def _time_limit(seconds: float):
+    """Interrupt the analysis after `seconds` (a real-time timer; only in a process's main thread, so
+    it does not apply to the threads of a cluster worker)."""
+    usable = seconds and seconds > 0 and hasattr(signal, "setitimer") and \
+        threading.current_thread() is threading.main_thread()
+    if not usable:
+        yield
+        return
+    old = signal.signal(signal.SIGALRM, _raise_overtime)
+    signal.setitimer(signal.ITIMER_REAL, seconds)
+    try:
+        yield
+    finally:
+        signal.setitimer(signal.ITIMER_REAL, 0)
+        signal.signal(signal.SIGALRM, old)
+
+
+def analyse_record(record: Record, options: Options, time_limit: float = TIME_LIMIT) -> Result:
+    """Analyse one record; never raises for a fault of the input or of the program.
+
+    A structure whose analysis takes longer than `time_limit` seconds (0 = no limit) is an error row.
+    """
     if record.fault:
         return Result(record.number, record.name, record.kind, record.text,
                       error=_numbered(record.number, f"{record.name}: {record.fault}"))
     if record.kind == "reaction":
-        return _analyse_reaction(record, options)
-    report, error = _analyse_text(record.text, record.name, options)
+        return _analyse_reaction(record, options, time_limit)
+    report, error = _analyse_text(record.text, record.name, options, time_limit)
     return Result(record.number, record.name, record.kind, record.text, report, _numbered(record.number, error))
 
 
@@ -81,12 +113,15 @@ def _numbered(number: int, message: str) -> str:
     return message if message.startswith(prefix) else prefix + message
 
 
-def _analyse_text(text: str, name: str, options: Options) -> tuple[dict | None, str]:
+def _analyse_text(text: str, name: str, options: Options, time_limit: float) -> tuple[dict | None, str]:
     """(report dict, "") or (None, one-line fault naming the record)."""
     try:
-        # the trailing newline keeps a SMILES from being taken for a file name
-        st = read_structure(text.rstrip("\n") + "\n", name=name, max_heavy_atoms=options.max_heavy_atoms)
-        return analyze(st, options=options).to_dict(), ""
+        with _time_limit(time_limit):
+            # the trailing newline keeps a SMILES from being taken for a file name
+            st = read_structure(text.rstrip("\n") + "\n", name=name, max_heavy_atoms=options.max_heavy_atoms)
+            return analyze(st, options=options).to_dict(), ""
+    except _Overtime:
+        return None, f"{name}: analysis stopped after {time_limit:g} s (raise the time limit to go on)"
     except InputError as exc:
         return None, " ".join(str(exc).split())
     except RecursionError:
@@ -95,7 +130,7 @@ def _analyse_text(text: str, name: str, options: Options) -> tuple[dict | None, 
         return None, f"{name}: internal error ({type(exc).__name__}): {' '.join(str(exc).split())[:200]}"
 
 
-def _analyse_reaction(record: Record, options: Options) -> Result:
+def _analyse_reaction(record: Record, options: Options, time_limit: float) -> Result:
     parts = record.text.split(">")
     if len(parts) != 3:
         return Result(record.number, record.name, "reaction", record.text,
@@ -106,7 +141,7 @@ def _analyse_reaction(record: Record, options: Options) -> Result:
         for k, smi in enumerate(s for s in part.split(".") if s):
             smi = _ATOM_MAP.sub("]", smi)
             name = f"{record.name} {role} {k + 1}"
-            report, error = _analyse_text(smi, name, options)
+            report, error = _analyse_text(smi, name, options, time_limit)
             note = ""
             if error and not _has_observed_element(smi, options):
                 error, note = "", f"no observed nuclei ({', '.join(options.nuclei)})"
@@ -146,9 +181,9 @@ def _has_observed_element(smiles: str, options: Options) -> bool:
     return False
 
 
-def analyse_chunk(records: list[Record], options: Options) -> list[Result]:
+def analyse_chunk(records: list[Record], options: Options, time_limit: float = TIME_LIMIT) -> list[Result]:
     """Analyse a list of records in order (the unit of work sent to a process or a cluster worker)."""
-    return [analyse_record(r, options) for r in records]
+    return [analyse_record(r, options, time_limit) for r in records]
 
 
 # ------------------------------------------------------------------------------------------ properties
@@ -266,17 +301,18 @@ def reaction_summary(reactants: list[dict], products: list[dict], mhz: float) ->
 # --------------------------------------------------------------------------------------------- running
 
 def run(records: Iterable[Record], options: Options | dict | None = None, jobs: int = 1,
-        scheduler: str | None = None, chunk_size: int = CHUNK_SIZE) -> Iterator[Result]:
+        scheduler: str | None = None, chunk_size: int = CHUNK_SIZE,
+        time_limit: float = TIME_LIMIT) -> Iterator[Result]:
     """Results of `records` in input order: in this process (jobs=1), in `jobs` worker processes, or on
     the Dask cluster whose scheduler listens at `scheduler` (an address such as 'tcp://host:8786')."""
     opts = options if isinstance(options, Options) else make_options(**(options or {}))
     if jobs < 1:
         raise InputError(f"--jobs {jobs}: give one worker or more")
     if scheduler:
-        return _run_dask(records, opts, scheduler, chunk_size)
+        return _run_dask(records, opts, scheduler, chunk_size, time_limit)
     if jobs > 1:
-        return _run_pool(records, opts, jobs, chunk_size)
-    return (analyse_record(r, opts) for r in records)
+        return _run_pool(records, opts, jobs, chunk_size, time_limit)
+    return (analyse_record(r, opts, time_limit) for r in records)
 
 
 def _chunks(records: Iterable[Record], size: int) -> Iterator[list[Record]]:
@@ -307,41 +343,41 @@ def _pool(jobs: int) -> ProcessPoolExecutor:
     return ProcessPoolExecutor(max_workers=jobs, mp_context=ctx, initializer=_ignore_interrupt)
 
 
-def _run_pool(records, opts: Options, jobs: int, chunk_size: int) -> Iterator[Result]:
+def _run_pool(records, opts: Options, jobs: int, chunk_size: int, limit: float) -> Iterator[Result]:
     window = jobs * WINDOW_PER_WORKER
     pool = _pool(jobs)
     pending: deque = deque()
     try:
         for chunk in _chunks(records, chunk_size):
-            pending.append((chunk, pool.submit(analyse_chunk, chunk, opts)))
+            pending.append((chunk, pool.submit(analyse_chunk, chunk, opts, limit)))
             while len(pending) >= window:
                 chunk0, fut = pending.popleft()
                 try:
                     yield from fut.result()
                 except BrokenProcessPool:
                     yield from _lost(chunk0, "a worker process died while analysing this record's group")
-                    pending, pool = _restart(pending, pool, jobs, opts)
+                    pending, pool = _restart(pending, pool, jobs, opts, limit)
         while pending:
             chunk0, fut = pending.popleft()
             try:
                 yield from fut.result()
             except BrokenProcessPool:
                 yield from _lost(chunk0, "a worker process died while analysing this record's group")
-                pending, pool = _restart(pending, pool, jobs, opts)
+                pending, pool = _restart(pending, pool, jobs, opts, limit)
     finally:
         for _, fut in pending:
             fut.cancel()
         pool.shutdown(wait=True, cancel_futures=True)
 
 
-def _restart(pending: deque, pool, jobs: int, opts: Options):
+def _restart(pending: deque, pool, jobs: int, opts: Options, limit: float):
     """Replace a broken pool and resubmit the chunks that were still in flight."""
     pool.shutdown(wait=False, cancel_futures=True)
     pool = _pool(jobs)
-    return deque((c, pool.submit(analyse_chunk, c, opts)) for c, _ in pending), pool
+    return deque((c, pool.submit(analyse_chunk, c, opts, limit)) for c, _ in pending), pool
 
 
-def _run_dask(records, opts: Options, scheduler: str, chunk_size: int) -> Iterator[Result]:
+def _run_dask(records, opts: Options, scheduler: str, chunk_size: int, limit: float) -> Iterator[Result]:
     try:
         from distributed import Client
     except ImportError:  # pragma: no cover - dask[distributed] is a dependency
@@ -364,7 +400,7 @@ def _run_dask(records, opts: Options, scheduler: str, chunk_size: int) -> Iterat
                 return _lost(chunk0, f"cluster task failed ({type(exc).__name__})")
 
         for chunk in _chunks(records, chunk_size):
-            pending.append((chunk, client.submit(analyse_chunk, chunk, opts, pure=False)))
+            pending.append((chunk, client.submit(analyse_chunk, chunk, opts, limit, pure=False)))
             while len(pending) >= window:
                 yield from take()
         while pending:

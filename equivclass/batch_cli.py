@@ -30,10 +30,12 @@ from .records import LAYOUTS, count_records, read_records
 @click.option("--keep", "keep", multiple=True, type=click.Choice(["inequivalent", "diastereotopic", "second-order"]),
               help="Write only records with this property (repeat to require several); error rows are "
                    "always written.")
+@click.option("--time-limit", type=float, default=60.0, show_default=True, metavar="SECONDS",
+              help="A structure taking longer becomes an error row (0 = no limit; not applied on a cluster).")
 @click.option("--strict", is_flag=True, help="Exit 1 when any record could not be analysed.")
 @model_options
 @guarded
-def batch(input_path, output, fmt, layout, column, name_column, jobs, cluster, keep, strict, **kw):
+def batch(input_path, output, fmt, layout, column, name_column, jobs, cluster, keep, time_limit, strict, **kw):
     """Analyse every record of INPUT (.smi/.smiles, .sdf, .csv/.tsv, reaction SMILES, or '-' for stdin).
 
     Each line of SMILES input is `SMILES [name]`; a line `reactants>agents>products` is a reaction, for
@@ -55,7 +57,7 @@ def batch(input_path, output, fmt, layout, column, name_column, jobs, cluster, k
     results = None
     try:
         writer = WRITERS[fmt](out, nuclei=opts.nuclei, mhz=opts.mhz)
-        results = run(records, opts, jobs=jobs, scheduler=cluster)
+        results = run(records, opts, jobs=jobs, scheduler=cluster, time_limit=time_limit)
         with tqdm(results, total=total, unit="rec", file=sys.stderr, disable=not show,
                   dynamic_ncols=True) as bar:
             for result in bar:

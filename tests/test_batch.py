@@ -274,3 +274,10 @@ def test_sdf_reader_faults():
 def test_missing_input_file_is_one_line_error(tmp_path):
     res = _invoke([str(tmp_path / "none.smi")])
     assert res.exit_code == 2 and "file not found" in res.stderr and "Traceback" not in res.stderr
+
+
+def test_time_limit_turns_a_long_analysis_into_an_error_row():
+    opts = make_options()
+    slow = analyse_record(Record(3, "long-chain", "C" * 40, "smiles"), opts, time_limit=0.001)
+    assert slow.error.startswith("record 3: long-chain: analysis stopped after 0.001 s")
+    assert analyse_record(Record(4, "ethanol", "CCO", "smiles"), opts, time_limit=60).error == ""

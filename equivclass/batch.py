@@ -6,7 +6,10 @@ result ("record N: name: fault") and the run goes on. Results come back in input
 fixed window of records is in flight, so memory stays bounded whatever the input size.
 
 Reactions (`reactants>agents>products`) are one result holding a result per species and a summary of
-what changes from reactants to products (agents are analysed but not compared).
+what changes from reactants to products (agents are analysed but not compared). In JSON Lines a
+reaction is one object with its species nested; in CSV it is one row per species (kind = role) and a
+summary row (kind "reaction", column `changes`); in SDF each species is a record tagged with its role,
+the reaction and the changes.
 """
 from __future__ import annotations
 

@@ -5,6 +5,10 @@ Rules (tables with their sources in ``equivclass.data``, files ``shifts_*.csv``)
 * 1H on sp3 carbon: base (CH3 0.86, CH2 1.37, CH 1.50) + alpha increments of the groups on the
   carbon + beta increments of groups on neighbouring sp3 carbons (Shoolery-type additivity, tables
   for CH3/CH2/CH as in Pretsch et al. and Silverstein et al.).
+  Carbons with several halogen / oxygen groups, or with fluorine (CHX3, CH2X2, CHX2R, CHF2R, CH2FR,
+  acetals) take dedicated values of their parent compounds; other X-CH2-Y with two functional groups
+  follow Shoolery's rule (0.23 + sigma X + sigma Y, Shoolery 1959).
+* 1H on P, Si, B, Sn, Ge: hydride base values by the class of the centre.
 * 1H on C=C: 5.25 + Z(gem) + Z(cis) + Z(trans) (Pascual, Meier & Simon 1966).
 * 1H on aromatic rings: base value of the ring position (benzene, naphthalene, heteroaromatics)
   + benzene ortho/meta/para increments of the ring substituents.
@@ -71,6 +75,9 @@ _C_BENZENE = {r["group"]: (float(r["ipso"]), float(r["ortho"]), float(r["meta"])
               for r in _rows("shifts_13c_benzene.csv")}
 _C_BASE = {r["key"]: float(r["shift_ppm"]) for r in _rows("shifts_13c_base.csv")}
 _C_ALKENE = {r["group"]: (float(r["z1"]), float(r["z2"])) for r in _rows("shifts_13c_alkene.csv")}
+_H_MULTI = {(r["kind"], r["groups"], r["other"], r["ring"]): (float(r["shift_ppm"]), r["note"])
+            for r in _rows("shifts_1h_polysubstituted.csv")}
+_H_SHOOLERY = {r["group"]: float(r["sigma"]) for r in _rows("shifts_1h_shoolery.csv")}
 _F_BASE = {r["key"]: float(r["shift_ppm"]) for r in _rows("shifts_19f.csv")}
 _P_BASE = {r["key"]: float(r["shift_ppm"]) for r in _rows("shifts_31p.csv")}
 
@@ -81,6 +88,7 @@ _FALLBACK = {
     "NH2": "NR2", "NAr": "NR2", "OAr": "OR", "OC(O)Ar": "OC(O)R", "C(O)Ar": "C(O)R",
     "COO-": "COOH", "O-": "OH", "SO2Cl": "SO2R", "P+": "P", "P(O)": "P", "C=N": "alkenyl",
     "OP": "OC(O)R", "OS": "OC(O)R", "OSi": "OR", "NSO2": "NC(O)R",
+    "N+ar5": "N+ar", "N=N": "N=C", "N=": "N=C", "C(O)N": "COOR",
 }
 
 _UNSATURATED = {"aryl", "alkenyl", "alkynyl", "C(O)R", "C(O)Ar", "CHO", "COOR", "COOH", "C(O)N",
@@ -226,6 +234,18 @@ def _group(mol, a, t: int) -> str:
             return "NO2"
         if a.GetFormalCharge() > 0 and a.GetDegree() == 4:
             return "N+"
+        if a.GetIsAromatic():
+            if a.GetFormalCharge() > 0:
+                five = a.IsInRingSize(5)
+                return "N+ar5" if five else "N+ar"
+            return "Nar"
+        for b in a.GetBonds():
+            if b.GetBondType() == Chem.BondType.DOUBLE:
+                zo = b.GetOtherAtom(a).GetAtomicNum()
+                if zo == 6:
+                    return "N=C"
+                if zo == 7:
+                    return "N=N"
         if any(b.GetBondType() != Chem.BondType.SINGLE for b in a.GetBonds()):
             return "N="
         for n in nbrs:
@@ -269,6 +289,42 @@ def _fmt(keys: list[str]) -> str:
 # --------------------------------------------------------------------------- 1H rules
 
 
+_HETERO_CLASS = {"F": "F", "Cl": "Cl", "Br": "Br", "I": "I", "OH": "OR", "OR": "OR", "OSi": "OR",
+                 "OAr": "OAr", "OC(O)R": "OCOR", "OC(O)Ar": "OCOR"}
+_ACYL = {"CHO", "C(O)R", "C(O)Ar", "COOR", "COOH", "C(O)N", "COO-", "COCl"}
+
+
+def _h_multi(mol, c, kind: str, heavy: list) -> ShiftEstimate | None:
+    """Dedicated value for CHX3, CH2X2, CHX2R, CH2FR (table), or Shoolery's X-CH2-Y form."""
+    ci = c.GetIdx()
+    groups = [_group(mol, a, ci) for a in heavy]
+    het = sorted(_HETERO_CLASS[g] for g in groups if g in _HETERO_CLASS)
+    if len(het) >= 2 or "F" in het:
+        rest = [(a, g) for a, g in zip(heavy, groups) if g not in _HETERO_CLASS]
+        other = ""
+        if len(rest) == 1:
+            a, g = rest[0]
+            other = ("alkyl" if _is_sp3_carbon(a) else "aryl" if g == "aryl"
+                     else "C=O" if g in _ACYL else g)
+        if len(rest) <= 1:
+            ri = mol.GetRingInfo()
+            ring = "ring5" if ri.IsAtomInRingOfSize(ci, 5) else "ring6" if ri.IsAtomInRingOfSize(ci, 6) else ""
+            key = ",".join(het)
+            for rk in ((ring, "") if ring else ("",)):
+                hit = _H_MULTI.get((kind, key, other, rk))
+                if hit is not None:
+                    what = f"{key}" + (f" + {other}" if other else "") + (f", {rk}" if rk else "")
+                    return ShiftEstimate(hit[0], f"{kind}: dedicated value for {what} ({hit[1]})")
+    if kind == "CH2" and len(heavy) == 2 and het and not any(
+            _is_sp3_carbon(a) and g != "CF3" for a, g in zip(heavy, groups)):
+        sig = [_lookup(_H_SHOOLERY, g) for g in groups]
+        if all(v is not None for _, v in sig) and "F" not in het:
+            names = _fmt([k for k, _ in sig])
+            return ShiftEstimate(round(_H_BASE["CH4"] + sig[0][1] + sig[1][1], 2),
+                                 f"CH2: Shoolery's rule for X-CH2-Y ({names})")
+    return None
+
+
 def _h_sp3(mol, c) -> ShiftEstimate:
     ci = c.GetIdx()
     heavy = [n for n in c.GetNeighbors() if not _is_h(n)]
@@ -276,6 +332,10 @@ def _h_sp3(mol, c) -> ShiftEstimate:
     if nh == 4 or (not heavy and nh >= 3):
         return ShiftEstimate(_H_BASE["CH4"], "methane base value")
     kind = {3: "CH3", 2: "CH2"}.get(nh, "CH")
+    if kind != "CH3":
+        hit = _h_multi(mol, c, kind, heavy)
+        if hit is not None:
+            return hit
     col = {"CH3": 0, "CH2": 1, "CH": 2}[kind]
     terms: list[float] = [_H_BASE[kind]]
     alpha_names: list[str] = []
@@ -563,7 +623,8 @@ def _h_labile(mol, x) -> ShiftEstimate:
                 return _base("OH-phenol", "labile O-H base value (phenol)")
             if any(b.GetBondType() == Chem.BondType.DOUBLE for b in y.GetBonds()):
                 return _base("OH-enol", "labile O-H base value (enol)")
-            return _base("OH-alcohol", "labile O-H base value (alcohol)")
+            return _base("OH-alcohol", "labile O-H typical value (alcohol, dilute CDCl3; "
+                                       "concentration dependent)")
         if y.GetAtomicNum() == 7:
             return _base("OH-oxime", "labile O-H base value (oxime / N-OH)")
         if y.GetAtomicNum() in (15, 16):
@@ -603,6 +664,66 @@ def _h_alkyne(mol, c, partner) -> ShiftEstimate:
     return _base("alkyne-alkyl", "alkyl-C#C-H base value")
 
 
+def _n_aryl(atom) -> int:
+    return sum(1 for n in atom.GetNeighbors() if n.GetIsAromatic())
+
+
+def _h_on_p(mol, p) -> ShiftEstimate:
+    if p.GetFormalCharge() > 0 and p.GetDegree() == 4:
+        return _base("PH-phosphonium", "P-H base value (phosphonium)")
+    oxo = _has_double_o(mol, p) or any(n.GetAtomicNum() == 8 and n.GetFormalCharge() < 0
+                                       and n.GetDegree() == 1 for n in p.GetNeighbors())
+    heavy = [n for n in p.GetNeighbors() if not _is_h(n)]
+    if oxo:
+        single_o = sum(1 for n in heavy if n.GetAtomicNum() == 8
+                       and _bond_order(mol, p.GetIdx(), n.GetIdx()) == 1.0 and n.GetFormalCharge() == 0)
+        carbons = [n for n in heavy if n.GetAtomicNum() == 6]
+        if single_o >= 2:
+            return _base("PH-phosphonate", "P-H base value (H-phosphonate)")
+        if single_o == 1 and carbons:
+            return _base("PH-phosphinate", "P-H base value (H-phosphinate)")
+        if len(carbons) == 2:
+            if _n_aryl(p):
+                return _base("PH-phosphine-oxide-aryl", "P-H base value (diaryl phosphine oxide)")
+            return _base("PH-phosphine-oxide-alkyl", "P-H base value (dialkyl phosphine oxide)")
+        return _base("PH-other-PV", "P-H base value (other P(V)-H)")
+    if not heavy:
+        return _base("PH3", "P-H base value (PH3)")
+    nar = _n_aryl(p)
+    if nar >= 2:
+        return _base("PH-phosphine-aryl2", "P-H base value (diarylphosphine)")
+    if nar == 1:
+        return _base("PH-phosphine-aryl1", "P-H base value (arylphosphine)")
+    return _base("PH-phosphine-alkyl", "P-H base value (alkylphosphine)")
+
+
+def _h_on_si(mol, si) -> ShiftEstimate:
+    if any(n.GetAtomicNum() == 8 for n in si.GetNeighbors()):
+        return _base("SiH-O", "Si-H base value (alkoxy/siloxy silane)")
+    nar = min(_n_aryl(si), 3)
+    if nar:
+        return _base(f"SiH-aryl{nar}", f"Si-H base value ({nar} aryl on Si)")
+    return _base("SiH-alkyl", "Si-H base value (alkylsilane)")
+
+
+def _h_on_b(mol, b) -> ShiftEstimate:
+    if b.GetDegree() >= 4 or b.GetFormalCharge() < 0:
+        return _base("BH-tetracoordinate", "B-H base value (borohydride / borane adduct; broad)")
+    return _base("BH-tricoordinate", "B-H base value (three-coordinate borane; broad)")
+
+
+def _h_on_group14(key: str, what: str):
+    def rule(mol, x) -> ShiftEstimate:
+        if _n_aryl(x):
+            return _base(f"{key}-aryl", f"{what}-H base value (arylmetal hydride)")
+        return _base(f"{key}-alkyl", f"{what}-H base value (alkylmetal hydride)")
+    return rule
+
+
+_HYDRIDE = {15: _h_on_p, 14: _h_on_si, 5: _h_on_b, 50: _h_on_group14("SnH", "Sn"),
+            32: _h_on_group14("GeH", "Ge")}
+
+
 def _estimate_1h(mol, h) -> ShiftEstimate:
     nbrs = list(h.GetNeighbors())
     if len(nbrs) != 1:
@@ -611,6 +732,8 @@ def _estimate_1h(mol, h) -> ShiftEstimate:
     z = x.GetAtomicNum()
     if z in (7, 8, 16):
         return _h_labile(mol, x)
+    if z in _HYDRIDE:
+        return _HYDRIDE[z](mol, x)
     if z != 6:
         return _NO_RULE
     if x.GetIsAromatic():
@@ -802,6 +925,14 @@ def _estimate_13c(mol, c) -> ShiftEstimate:
             return ShiftEstimate(_C_BASE["imine"], "imine C base value")
         if p.GetAtomicNum() == 6:
             return _c_alkene(mol, c, p)
+        if p.GetAtomicNum() == 16:
+            zs = sorted(n.GetAtomicNum() for n in c.GetNeighbors() if n.GetIdx() != p.GetIdx())
+            key = ("thiourea" if zs.count(7) == 2 else
+                   "thiocarbamate" if 7 in zs and (8 in zs or 16 in zs) else
+                   "trithiocarbonate" if zs.count(16) == 2 else
+                   "thioamide" if 7 in zs else None)
+            if key is not None:
+                return ShiftEstimate(_C_BASE[key], f"thiocarbonyl C base value ({key})")
     return ShiftEstimate(_C_BASE["placeholder-sp2"], "no rule; generic sp2 carbon value")
 
 

@@ -82,6 +82,36 @@ REFERENCE = [
     ("alkyl", "OC(=O)[CH2:1]c1ccccc1", "1H", 3.64, "SDBS phenylacetic acid", None),
     ("alkyl", "[CH3:1]N(C)P(=O)(N(C)C)N(C)C", "1H", 2.65, "G97 HMPA", None),
     ("alkyl", "[CH3:1]OP(=O)(OC)OC", "1H", 3.78, "SDBS trimethyl phosphate (parent)", None),
+    # N-CH3 on aromatic, imine and sulfonyl N; amide / aniline N-CH3 (recalled from memory)
+    ("alkyl", "c1cn([CH3:1])cc1", "1H", 3.62, "SDBS N-methylpyrrole (parent)", None),
+    ("alkyl", "c1ncn([CH3:1])c1", "1H", 3.64, "SDBS N-methylimidazole (parent)", None),
+    ("alkyl", "c1ccc2c(c1)ccn2[CH3:1]", "1H", 3.75, "SDBS N-methylindole (parent)", None),
+    ("alkyl", "c1cc[n+]([CH3:1])cc1.[I-]", "1H", 4.40, "SDBS N-methylpyridinium iodide (parent)", None),
+    ("alkyl", "CN([CH3:1])c1ccccc1", "1H", 2.93, "SDBS N,N-dimethylaniline", None),
+    ("alkyl", "CC(=O)N(C)[CH3:1]", "1H", 3.02, "G97 N,N-dimethylacetamide (one N-CH3)", None),
+    ("alkyl", "CC(=O)N([CH3:1])C", "1H", 2.94, "G97 N,N-dimethylacetamide (other N-CH3)", None),
+    ("alkyl", "Cc1ccc(S(=O)(=O)N(C)[CH3:1])cc1", "1H", 2.70, "SDBS N,N-dimethyl-p-toluenesulfonamide (parent)",
+     None),
+    ("alkyl", "[CH3:1]N=Cc1ccccc1", "1H", 3.49, "SDBS N-benzylidenemethylamine (parent)", None),
+    # several electronegative groups on one carbon, fluorinated carbons (recalled from memory)
+    ("alkyl", "C[CH:1](F)F", "1H", 5.9, "PBB 1,1-difluoroethane (parent)", None),
+    ("alkyl", "F[CH:1](F)c1ccccc1", "1H", 6.63, "SDBS (difluoromethyl)benzene (parent)", None),
+    ("alkyl", "F[CH:1](F)C(=O)O", "1H", 5.95, "SDBS difluoroacetic acid (parent)", None),
+    ("alkyl", "F[CH2:1]c1ccccc1", "1H", 5.35, "SDBS benzyl fluoride (parent)", None),
+    ("alkyl", "CCC[CH2:1]F", "1H", 4.45, "SDBS 1-fluorobutane (parent)", None),
+    ("alkyl", "O[CH2:1]C(F)(F)F", "1H", 3.93, "G97-type 2,2,2-trifluoroethanol", None),
+    ("alkyl", "Br[CH:1](Br)Br", "1H", 6.82, "SDBS bromoform (parent)", None),
+    ("alkyl", "Br[CH2:1]Br", "1H", 4.95, "SDBS dibromomethane (parent)", None),
+    ("alkyl", "CO[CH:1](OC)OC", "1H", 4.97, "SDBS trimethyl orthoformate (parent)", None),
+    ("alkyl", "CO[CH2:1]OC", "1H", 4.58, "SDBS dimethoxymethane (parent)", None),
+    ("alkyl", "C[CH:1](Cl)Cl", "1H", 5.89, "SDBS 1,1-dichloroethane (parent)", None),
+    ("alkyl", "CO[CH:1](OC)c1ccccc1", "1H", 5.38, "SDBS benzaldehyde dimethyl acetal (parent)", None),
+    ("alkyl", "c1ccc2O[CH2:1]Oc2c1", "1H", 5.95, "SDBS 1,3-benzodioxole (parent)", None),
+    ("alkyl", "C=C[CH2:1]O", "1H", 4.13, "SDBS allyl alcohol", None),
+    ("alkyl", "C#C[CH2:1]O", "1H", 4.28, "SDBS propargyl alcohol", None),
+    ("alkyl", "C=C[CH2:1]Br", "1H", 3.93, "SDBS allyl bromide", None),
+    ("alkyl", "CCOC(=O)[CH2:1]Cl", "1H", 4.06, "SDBS ethyl chloroacetate", None),
+    ("alkyl", "CC(=O)O[CH2:1]c1ccccc1", "1H", 5.10, "SDBS benzyl acetate", None),
     # ---------------------------------------------------------------- alkene 1H
     ("alkene", "C=[CH:1]c1ccccc1", "1H", 6.72, "SDBS styrene, H-alpha (parent)", None),
     ("alkene", "[CH2:1]=C[c:2]1ccccc1", "1H", 5.75, "SDBS styrene, H cis to Ph (parent)", "cis"),
@@ -161,6 +191,19 @@ REFERENCE = [
     ("labile", "[OH:1]c1ccccc1", "1H", 4.9, "SDBS phenol (concentration dependent)", None),
     ("labile", "[NH2:1]c1ccccc1", "1H", 3.6, "SDBS aniline", None),
     ("labile", "[nH:1]1cccc1", "1H", 7.9, "SDBS pyrrole (broad)", None),
+    ("labile", "CC(C)[OH:1]", "1H", 1.6, "SDBS 2-propanol (dilute, concentration dependent)", None),
+    # ---------------------------------------------------------------- H on P, Si, Sn, B
+    # (recalled from memory; P-H, Si-H and Sn-H show large one-bond couplings to the heteroatom)
+    ("hydride", "CO[PH:1](=O)OC", "1H", 6.77, "SDBS dimethyl phosphite, 1J(P,H) ~700 Hz", None),
+    ("hydride", "CCO[PH:1](=O)OCC", "1H", 6.81, "SDBS diethyl phosphite", None),
+    ("hydride", "O=[PH:1](c1ccccc1)c1ccccc1", "1H", 8.07, "SDBS diphenylphosphine oxide", None),
+    ("hydride", "c1ccc([PH:1]c2ccccc2)cc1", "1H", 5.2, "SDBS diphenylphosphine", None),
+    ("hydride", "[PH3:1]", "1H", 1.6, "PBB phosphine", None),
+    ("hydride", "CC[SiH:1](CC)CC", "1H", 3.61, "SDBS triethylsilane", None),
+    ("hydride", "c1ccc([SiH:1](c2ccccc2)c2ccccc2)cc1", "1H", 5.47, "SDBS triphenylsilane", None),
+    ("hydride", "C[SiH:1](C)c1ccccc1", "1H", 4.42, "SDBS dimethylphenylsilane", None),
+    ("hydride", "CCCC[SnH:1](CCCC)CCCC", "1H", 4.8, "SDBS tributyltin hydride", None),
+    ("hydride", "C[N+](C)(C)[BH3-:1]", "1H", 1.5, "PBB trimethylamine-borane (broad q)", None),
     # ---------------------------------------------------------------- 13C
     ("13C", "[CH3:1]C(C)=O", "13C", 30.92, "G97 acetone", None),
     ("13C", "C[C:1](C)=O", "13C", 207.07, "G97 acetone", None),
@@ -188,6 +231,11 @@ REFERENCE = [
     ("13C", "[CH3:1]Oc1ccccc1", "13C", 55.1, "SDBS anisole OCH3", None),
     ("13C", "[CH2:1]=Cc1ccccc1", "13C", 113.8, "SDBS styrene C-beta", None),
     ("13C", "C=[CH:1]c1ccccc1", "13C", 136.9, "SDBS styrene C-alpha", None),
+    ("13C", "c1cn([CH3:1])cc1", "13C", 36.2, "SDBS N-methylpyrrole N-CH3", None),
+    ("13C", "[CH3:1]S(C)(=O)=O", "13C", 42.6, "SDBS dimethyl sulfone", None),
+    ("13C", "[CH3:1]S(C)=O", "13C", 40.76, "G97 DMSO", None),
+    ("13C", "N[C:1](N)=S", "13C", 183.0, "SDBS thiourea (DMSO-d6)", None),
+    ("13C", "P(c1ccccc1)(c1ccccc1)[c:1]1ccccc1", "13C", 137.2, "SDBS triphenylphosphine ipso", None),
     # ---------------------------------------------------------------- 19F (vs CFCl3)
     ("19F", "[F:1]c1ccccc1", "19F", -113.1, "DOL fluorobenzene (parent)", None),
     ("19F", "[F:1]C(F)(F)c1ccccc1", "19F", -63.7, "DOL benzotrifluoride", None),
@@ -212,7 +260,8 @@ REFERENCE = [
 ]
 
 CH_CLASSES = ("alkyl", "alkene", "aromatic", "heteroaromatic", "aldehyde")
-BOUNDS = {"13C": 3.5, "19F": 6.0, "31P": 8.0, "labile": 1.0}  # ppm, stated before measuring
+# ppm, stated before measuring; "hydride" (H on P, Si, Sn, B) has a wide range per class
+BOUNDS = {"13C": 3.5, "19F": 6.0, "31P": 8.0, "labile": 1.0, "hydride": 0.5}
 
 
 def _prepare(smiles: str, geometry: str | None):

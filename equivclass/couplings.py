@@ -8,15 +8,13 @@ to exchange-decoupled protons, or to dilute isotopes at natural abundance are ze
 """
 from __future__ import annotations
 
-import csv
 import functools
-import io
 from dataclasses import dataclass
-from importlib import resources
 
 from rdkit import Chem
 
 from . import nucdata
+from .tables import table_rows
 from .stereo import Configuration
 
 MAX_BONDS = 5
@@ -34,9 +32,7 @@ class Coupling:
 
 @functools.lru_cache(maxsize=1)
 def coupling_table() -> dict[str, tuple[float, str]]:
-    text = resources.files("equivclass.data").joinpath("couplings.csv").read_text(encoding="utf-8")
-    rows = csv.DictReader(io.StringIO("\n".join(ln for ln in text.splitlines() if not ln.startswith("#"))))
-    return {r["rule"]: (float(r["j_hz"]), r["source"]) for r in rows}
+    return {r["rule"]: (float(r["j_hz"]), r["source"]) for r in table_rows("couplings.csv")}
 
 
 def _shortest_paths(adj, a: int, b: int, dist_from_a: dict, limit: int = 8):

@@ -23,14 +23,12 @@ the caller keeps its table value.
 
 from __future__ import annotations
 
-import csv
 import functools
 import math
-from importlib import resources
-from pathlib import Path
 
 from rdkit import Chem
 from rdkit.Chem import AllChem, rdMolTransforms
+from equivclass.tables import table_rows
 
 __all__ = ["haasnoot_j", "vicinal_j_from_geometry", "ring_vicinal_couplings", "rotamer_average_vicinal",
            "vicinal_fragment"]
@@ -40,13 +38,8 @@ _BASIS_RING = "Karplus (Haasnoot-de Leeuw-Altona) on {n} MMFF conformer(s), Bolt
 _BASIS_CHAIN = "Karplus (Haasnoot-de Leeuw-Altona), equal-weight staggered rotamers"
 
 
-def _rows() -> list[dict[str, str]]:
-    try:
-        text = resources.files("equivclass.data").joinpath("karplus.csv").read_text(encoding="utf-8")
-    except ModuleNotFoundError:  # source checkout that is not installed
-        text = (Path(__file__).resolve().parent.parent / "data" / "karplus.csv").read_text(encoding="utf-8")
-    lines = [ln for ln in text.splitlines() if ln.strip() and not ln.lstrip().startswith("#")]
-    return list(csv.DictReader(lines))
+def _rows():
+    return table_rows("karplus.csv")
 
 
 @functools.lru_cache(maxsize=1)

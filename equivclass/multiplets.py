@@ -20,17 +20,15 @@ Rules (works on the ``Report.to_dict()`` record and the analysed RDKit molecule 
 
 from __future__ import annotations
 
-import csv
 import functools
 from dataclasses import dataclass
-from importlib import resources
-from pathlib import Path
 
 import numpy as np
 from rdkit import Chem
 
 from equivclass import nucdata
 from equivclass.errors import InputError
+from equivclass.tables import table_rows
 
 __all__ = ["Multiplet", "annotate", "spin_pattern", "first_order_lines", "multiplicity_name",
            "satellite_j"]
@@ -135,13 +133,8 @@ def multiplicity_name(groups: list[tuple[float, float, int]]) -> str:
 # --------------------------------------------------------------------------- satellites
 
 
-def _rows(name: str) -> list[dict[str, str]]:
-    try:
-        text = resources.files("equivclass.data").joinpath(name).read_text(encoding="utf-8")
-    except ModuleNotFoundError:  # source checkout that is not installed
-        text = (Path(__file__).resolve().parent.parent / "data" / name).read_text(encoding="utf-8")
-    lines = [ln for ln in text.splitlines() if ln.strip() and not ln.lstrip().startswith("#")]
-    return list(csv.DictReader(lines))
+def _rows(name: str):
+    return table_rows(name)
 
 
 @functools.lru_cache(maxsize=1)

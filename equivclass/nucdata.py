@@ -6,17 +6,14 @@ and ``"D"`` (deuterium) are accepted on input. Gyromagnetic ratios are in 10^7 r
 
 from __future__ import annotations
 
-import csv
 import functools
-import io
 import math
 import re
 from dataclasses import dataclass
-from importlib import resources
-from pathlib import Path
 from typing import Iterable
 
 from equivclass.errors import InputError
+from equivclass.tables import table_rows
 
 DEFAULT_NUCLEI = ("1H", "19F", "31P")
 
@@ -43,16 +40,8 @@ class Isotope:
     gamma: float
 
 
-def _csv_text() -> str:
-    try:
-        return (resources.files("equivclass.data") / "nuclei.csv").read_text(encoding="utf-8")
-    except ModuleNotFoundError:  # running from a source checkout that is not installed
-        return (Path(__file__).resolve().parent.parent / "data" / "nuclei.csv").read_text(encoding="utf-8")
-
-
 @functools.lru_cache(maxsize=1)
 def _table() -> tuple[tuple[Isotope, ...], dict[str, Isotope]]:
-    lines = [ln for ln in io.StringIO(_csv_text()) if ln.strip() and not ln.lstrip().startswith("#")]
     rows = tuple(
         Isotope(
             symbol=r["isotope"],
@@ -63,7 +52,7 @@ def _table() -> tuple[tuple[Isotope, ...], dict[str, Isotope]]:
             abundance_pct=float(r["natural_abundance_pct"]),
             gamma=float(r["gamma_1e7"]),
         )
-        for r in csv.DictReader(lines)
+        for r in table_rows("nuclei.csv")
     )
     return rows, {iso.symbol: iso for iso in rows}
 

@@ -23,12 +23,10 @@ configuration, so symmetry-equivalent atoms receive equal estimates. Estimates, 
 
 from __future__ import annotations
 
-import csv
 from dataclasses import dataclass
-from importlib import resources
-from pathlib import Path
 
 from rdkit import Chem
+from equivclass.tables import table_rows
 
 __all__ = ["ShiftEstimate", "estimate"]
 
@@ -44,13 +42,8 @@ class ShiftEstimate:
 # --------------------------------------------------------------------------- tables
 
 
-def _rows(name: str) -> list[dict[str, str]]:
-    try:
-        text = resources.files("equivclass.data").joinpath(name).read_text(encoding="utf-8")
-    except ModuleNotFoundError:  # source checkout that is not installed
-        text = (Path(__file__).resolve().parent.parent / "data" / name).read_text(encoding="utf-8")
-    lines = [ln for ln in text.splitlines() if ln.strip() and not ln.lstrip().startswith("#")]
-    return list(csv.DictReader(lines))
+def _rows(name: str):
+    return table_rows(name)
 
 
 def _num(s: str | None) -> float | None:

@@ -12,7 +12,6 @@ import itertools
 from dataclasses import dataclass
 
 from rdkit import Chem
-from rdkit.Chem import rdMolDescriptors
 
 _MAIN_GROUP_TETRAHEDRAL = {5, 6, 7, 13, 14, 15, 16, 32, 33, 34, 50, 51, 52}
 _LONE_PAIR_PYRAMIDAL = {15, 16, 33, 34, 51, 52}  # P, S, As, Se, Sb, Te invert slowly (common practice)

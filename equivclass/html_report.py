@@ -10,12 +10,8 @@ import html
 import re
 
 from .draw import atom_labels, draw, hex_colour, set_colour, set_letters
-from .report import CAUTION, _first_order_sentence
+from .report import CAUTION, first_order_sentence
 
-#: Largest coupled group (nuclei) simulated for the embedded spectrum; bigger ones are left out.
-SPECTRUM_MAX_GROUP = 10
-#: Largest number of nuclei simulated for the embedded spectrum.
-SPECTRUM_MAX_NUCLEI = 30
 
 REPORT_CSS = """
 :root { --ink:#1f2428; --muted:#5b6570; --line:#d5dbe1; --panel:#f6f8fa; --accent:#0d5aa0; }
@@ -123,7 +119,7 @@ def _fragments(report) -> str:
         copies = f"{f.copies} ×" if f.copies > 1 else ""
         rows.append(f"<tr><td class='num'>{f.index}</td><td><b>{_e(copies)} {_e(f.label)}</b></td>"
                     f"<td>{_e(', '.join(map(str, f.sets)))}</td>"
-                    f"<td>{_e(_first_order_sentence(f, report.mhz))}</td></tr>")
+                    f"<td>{_e(first_order_sentence(f, report.mhz))}</td></tr>")
     return ("<table><thead><tr><th>fragment</th><th>label</th><th>sets</th><th>at this field</th></tr>"
             "</thead><tbody>" + "".join(rows) + "</tbody></table>")
 
@@ -148,61 +144,38 @@ def _multiplets(multiplets) -> str:
     return f"<table><thead><tr>{head}</tr></thead><tbody>{body}</tbody></table>"
 
 
+def _own_multiplets(report) -> list[dict]:
+    """Rows of the report's first-order multiplets: set, letter, δ, integral, pattern, J, why."""
+    rows = []
+    for st in report.sets:
+        m = report.multiplets.get(st.index)
+        if not m:
+            continue
+        pattern = m["multiplicity"] + (f" (app. {m['apparent_multiplicity']})"
+                                       if m.get("apparent_multiplicity") else "")
+        rows.append({"set": st.index, "letter": st.letter, "nucleus": st.isotope, "δ est. / ppm": st.shift_ppm,
+                     "integral": m["integral"], "pattern": pattern,
+                     "J / Hz": ", ".join(f"{j:.1f}" for j in m.get("j_hz", ())), "why": m.get("reason", "")})
+    return rows
+
+
 def simulated_spectrum_svg(report, observe: str | None = None, width: int = 900, height: int = 260):
     """Inline SVG of the simulated spectrum of one observed isotope, or None when it is too large.
 
-    The spin system is built from the report's estimated shifts and atom couplings (no decoupling)
-    and solved exactly by `equivclass.simulate`; lines are Lorentzians of 1 Hz full width.
+    The spectrum is `predicted_spectrum.spectrum_of` (exact per fragment, first order for fragments too
+    large to solve); lines are Lorentzians of 1 Hz full width.
     """
-    try:
-        import numpy as np
+    import numpy as np
 
-        from .errors import InputError
-        from .nucdata import larmor_mhz
-        from .simulate import SpinSystem, simulate
-    except ImportError:
-        return None
+    from .errors import InputError
+    from .nucdata import larmor_mhz
+    from .predicted_spectrum import spectrum_of
+
     observe = observe or ("1H" if "1H" in report.nuclei else (report.nuclei[0] if report.nuclei else None))
-    sets = [s for s in report.sets if not s.dilute]
-    if observe is None or not any(s.isotope == observe for s in sets):
-        return None
-    atoms, shifts, isotopes = [], [], []
-    for s in sets:
-        f = larmor_mhz(s.isotope, report.mhz)
-        for a in s.atoms:
-            atoms.append(a)
-            shifts.append(s.shift_ppm * f)
-            isotopes.append(s.isotope)
-    if len(atoms) > SPECTRUM_MAX_NUCLEI:
-        return None
-    pos = {a: k for k, a in enumerate(atoms)}
-    n = len(atoms)
-    j = np.zeros((n, n))
-    for c in report.couplings:
-        a, b = c.atoms
-        if a in pos and b in pos:
-            j[pos[a], pos[b]] = j[pos[b], pos[a]] = c.j_hz
-    # size of the largest coupled group
-    seen, biggest = set(), 0
-    for start in range(n):
-        if start in seen:
-            continue
-        stack, comp = [start], 0
-        seen.add(start)
-        while stack:
-            k = stack.pop()
-            comp += 1
-            for m in np.flatnonzero(j[k]):
-                if int(m) not in seen:
-                    seen.add(int(m))
-                    stack.append(int(m))
-        biggest = max(biggest, comp)
-    if biggest > SPECTRUM_MAX_GROUP:
+    if observe is None or not any(s.isotope == observe for s in report.sets):
         return None
     try:
-        system = SpinSystem(tuple(shifts), tuple(map(tuple, j)), tuple(0.5 for _ in atoms), tuple(isotopes),
-                            report.name)
-        t = simulate(system, observe)
+        t = spectrum_of(report, observe).transitions
     except (InputError, ValueError, MemoryError):
         return None
     f_obs = larmor_mhz(observe, report.mhz)
@@ -275,8 +248,12 @@ def report_fragment(report, spectrum_svg: str | None = None, multiplets=None, pi
         "<h2>Magnetic inequivalence</h2>", _splits(report),
         "<h2>Fragments</h2>", _fragments(report),
     ]
+    if multiplets is None:
+        multiplets = _own_multiplets(report)
     if multiplets:
         parts += ["<h2>Multiplets and integrals</h2>", _multiplets(multiplets)]
+    if report.listing:
+        parts += [f"<p class='listing'>{_e(line)}</p>" for line in report.listing.splitlines()]
     if spectrum_svg:
         parts += ["<h2>Simulated spectrum</h2>", f"<div class='spectrum'>{_inline_svg(spectrum_svg)}</div>"]
     if report.warnings:

@@ -144,7 +144,7 @@ class Report:
         lines += ["", "Fragments:"]
         for f in self.fragments:
             sets = ",".join(map(str, f.sets))
-            lines.append(f"  {f.index}: {f.label:<18} sets {sets}  — {_first_order_sentence(f, self.mhz)}")
+            lines.append(f"  {f.index}: {f.label:<18} sets {sets}  — {first_order_sentence(f, self.mhz)}")
         notes = [(i, m["reason"]) for i, m in sorted(self.multiplets.items()) if m.get("reason")]
         if notes:
             lines += ["", "Patterns:"] + [f"  set {i}: {why}" for i, why in notes]
@@ -174,7 +174,8 @@ def _set_letters(s: SetResult, fragments) -> str:
     return "".join(s.letter + (primes[k] if k < 4 else "′" * k) for k in range(per_copy))
 
 
-def _first_order_sentence(f: FragmentResult, mhz: float) -> str:
+def first_order_sentence(f: FragmentResult, mhz: float) -> str:
+    """One sentence on whether the fragment is first order at this field."""
     if f.magnetically_inequivalent:
         return "magnetically inequivalent: second order at any field; simulate it."
     if f.first_order_above_mhz is None:

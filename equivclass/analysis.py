@@ -87,7 +87,7 @@ def _analyze_isomer(st: Structure, mol: Chem.Mol, opts: Options, warnings: tuple
     labile = frozenset() if opts.labile_coupled else labile_protons(mol)
     partners = [a for a, n in by_atom.items() if not n.dilute]
     couplings = estimate_couplings(mol, config, partners, decoupled=labile, threshold_hz=opts.threshold_hz)
-    if opts.ring_couplings:
+    if opts.ring_couplings and _has_ring_ch2_ch(mol):
         couplings = _with_ring_karplus(mol, couplings, opts.threshold_hz)
     couplings = _symmetrized(couplings, orb.generators)
     jmap = {frozenset((c.a, c.b)): c for c in couplings}
@@ -157,10 +157,20 @@ def _analyze_isomer(st: Structure, mol: Chem.Mol, opts: Options, warnings: tuple
                                listing=listing.journal_listings(base, mults))
 
 
+KARPLUS_MAX_HEAVY_ATOMS = 60   # larger molecules keep table values: embedding them costs seconds
+KARPLUS_MAX_RING = 8           # larger rings are flexible: their vicinal couplings average like chains
+
+
 def _has_ring_ch2_ch(mol: Chem.Mol) -> bool:
-    """True when some non-aromatic ring bond joins two sp3 carbons that both carry hydrogen."""
+    """True when some bond of a ring of at most KARPLUS_MAX_RING atoms joins two sp3 carbons that both
+    carry hydrogen, in a molecule small enough to embed quickly."""
+    if sum(1 for a in mol.GetAtoms() if a.GetAtomicNum() > 1) > KARPLUS_MAX_HEAVY_ATOMS:
+        return False
+    ring_info = mol.GetRingInfo()
     for b in mol.GetBonds():
         if not b.IsInRing() or b.GetIsAromatic():
+            continue
+        if not any(len(r) <= KARPLUS_MAX_RING for r in ring_info.BondRings() if b.GetIdx() in r):
             continue
         ends = (b.GetBeginAtom(), b.GetEndAtom())
         if all(a.GetAtomicNum() == 6 and a.GetHybridization() == Chem.HybridizationType.SP3 and
@@ -171,7 +181,10 @@ def _has_ring_ch2_ch(mol: Chem.Mol) -> bool:
 
 def _with_ring_karplus(mol, couplings, threshold_hz):
     """Replace table values of vicinal H–H across ring bonds by Karplus values on the same geometry."""
-    pairs = [(c.a, c.b) for c in couplings if c.n_bonds == 3 and c.basis == "HH3_sp3"]
+    ring_bonds = {b.GetIdx() for b in mol.GetBonds() if any(
+        len(r) <= KARPLUS_MAX_RING for r in mol.GetRingInfo().BondRings() if b.GetIdx() in r)}
+    pairs = [(c.a, c.b) for c in couplings if c.n_bonds == 3 and c.basis == "HH3_sp3" and
+             _vicinal_bond(mol, c.a, c.b) in ring_bonds]
     if not pairs:
         return couplings
     found = karplus.ring_vicinal_couplings(mol, pairs)
@@ -183,6 +196,14 @@ def _with_ring_karplus(mol, couplings, threshold_hz):
         elif abs(hit[0]) >= threshold_hz:
             out.append(Coupling(c.a, c.b, hit[0], hit[1], c.n_bonds))
     return tuple(out)
+
+
+def _vicinal_bond(mol: Chem.Mol, h1: int, h2: int) -> int:
+    """Index of the C–C bond between the carbons of two vicinal protons (−1 if there is none)."""
+    c1 = mol.GetAtomWithIdx(h1).GetNeighbors()[0].GetIdx()
+    c2 = mol.GetAtomWithIdx(h2).GetNeighbors()[0].GetIdx()
+    bond = mol.GetBondBetweenAtoms(c1, c2)
+    return bond.GetIdx() if bond is not None else -1
 
 
 def _symmetrized(couplings, generators):

@@ -74,6 +74,10 @@ def rdkit_baseline(path: str) -> tuple[int, float]:
     return n, time.perf_counter() - t0
 
 
+TIME_LIMIT = 60.0
+OVERTIME: set = set()
+
+
 def timed_run(path: str, jobs: int = 1, scheduler: str | None = None) -> tuple[int, int, float]:
     from equivclass.batch import JsonlWriter, run
     from equivclass.options import make_options
@@ -84,10 +88,12 @@ def timed_run(path: str, jobs: int = 1, scheduler: str | None = None) -> tuple[i
     t0 = time.perf_counter()
     with open(os.devnull, "w", encoding="utf-8") as sink:
         writer = JsonlWriter(sink)
-        for result in run(read_records(path), opts, jobs=jobs, scheduler=scheduler):
+        for result in run(read_records(path), opts, jobs=jobs, scheduler=scheduler, time_limit=TIME_LIMIT):
             writer.write(result)
             n += 1
             errors += bool(result.error)
+            if "analysis stopped after" in result.error:
+                OVERTIME.add(result.number)
     return n, errors, time.perf_counter() - t0
 
 
@@ -140,7 +146,8 @@ def memory_run(src: str, lines: int, seconds: float, jobs: int, tmp: str) -> dic
                 fh.write(sample[k % len(sample)])
     out = os.path.join(tmp, "out.jsonl")
     code = "import sys; from equivclass.cli import main; sys.exit(main())"
-    cmd = [sys.executable, "-c", code, "batch", big, "-o", out, "--jobs", str(jobs)]
+    cmd = [sys.executable, "-c", code, "batch", big, "-o", out, "--jobs", str(jobs),
+           "--time-limit", str(TIME_LIMIT)]
     t0 = time.perf_counter()
     proc = subprocess.Popen(cmd, stderr=subprocess.PIPE, stdout=subprocess.DEVNULL)
     peak, samples = 0, []
@@ -152,7 +159,11 @@ def memory_run(src: str, lines: int, seconds: float, jobs: int, tmp: str) -> dic
     finished = proc.poll() is not None
     if not finished:
         proc.send_signal(2)          # SIGINT: the command stops, leaving a valid partial file
-        proc.wait(timeout=60)
+        try:
+            proc.wait(timeout=60)
+        except subprocess.TimeoutExpired:
+            proc.kill()
+            proc.wait()
     elapsed = time.perf_counter() - t0
     with open(out, encoding="utf-8") as fh:
         done = sum(1 for _ in fh)
@@ -171,7 +182,9 @@ def main() -> None:
     ap.add_argument("--memory-seconds", type=float, default=300.0)
     ap.add_argument("--skip-memory", action="store_true")
     ap.add_argument("--skip-dask", action="store_true")
+    ap.add_argument("--time-limit", type=float, default=TIME_LIMIT, help="Seconds per structure.")
     args = ap.parse_args()
+    globals()["TIME_LIMIT"] = args.time_limit
 
     src = nci_source()
     with tempfile.TemporaryDirectory() as tmp:
@@ -195,7 +208,9 @@ def main() -> None:
     load = ", ".join(f"{x:.1f}" for x in os.getloadavg())
     print(f"Machine: {cpu}, {os.cpu_count()} cores; Python {platform.python_version()}, RDKit "
           f"{rdBase.rdkitVersion}; {datetime.date.today().isoformat()}; load average at the end {load}")
-    print(f"Input: {os.path.basename(src)}" + (f" (first {args.limit} records)" if args.limit else ""))
+    print(f"Input: {os.path.basename(src)}" + (f" (first {args.limit} records)" if args.limit else "") +
+          f"; time limit {TIME_LIMIT:g} s per structure; records stopped by it (local runs): "
+          f"{sorted(OVERTIME) or 'none'}")
     print()
     print("| run | records | errors | seconds | molecules/s | time / RDKit |")
     print("| --- | ---: | ---: | ---: | ---: | ---: |")

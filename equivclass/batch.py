@@ -368,9 +368,14 @@ def _run_pool(records, opts: Options, jobs: int, chunk_size: int, limit: float) 
                 yield from _lost(chunk0, "a worker process died while analysing this record's group")
                 pending, pool = _restart(pending, pool, jobs, opts, limit)
     finally:
-        for _, fut in pending:
-            fut.cancel()
-        pool.shutdown(wait=True, cancel_futures=True)
+        if pending:          # stopped early (interrupt): do not wait for analyses still running
+            for _, fut in pending:
+                fut.cancel()
+            for proc in list((getattr(pool, "_processes", None) or {}).values()):
+                proc.terminate()
+            pool.shutdown(wait=False, cancel_futures=True)
+        else:
+            pool.shutdown(wait=True)
 
 
 def _restart(pending: deque, pool, jobs: int, opts: Options, limit: float):

@@ -66,7 +66,7 @@ def _stereo_warnings(choice, opts) -> tuple[str, ...]:
 
 
 def _analyze_isomer(st: Structure, mol: Chem.Mol, opts: Options, warnings: tuple) -> Report:
-    warnings = list(warnings)
+    warnings = list(st.notes) + list(warnings)
     sys.setrecursionlimit(max(sys.getrecursionlimit(), 4 * mol.GetNumAtoms() + 200))
     if opts.ring_couplings and _has_ring_ch2_ch(mol):
         mol = with_conformer(mol) or mol
@@ -108,7 +108,8 @@ def _analyze_isomer(st: Structure, mol: Chem.Mol, opts: Options, warnings: tuple
         if members[0] in user_shifts:
             ppm, basis = user_shifts[members[0]], "given by the user"
         else:
-            est = shift_rules.estimate(shift_mol, members[0], nuc.isotope.symbol)
+            observed = "1H" if nuc.isotope.atomic_number == 1 else nuc.isotope.symbol
+            est = shift_rules.estimate(shift_mol, members[0], observed)
             ppm, basis = round(est.ppm, 2), est.basis
         raw.append((members, nuc, subsets, split, ppm, basis))
 
@@ -147,7 +148,7 @@ def _analyze_isomer(st: Structure, mol: Chem.Mol, opts: Options, warnings: tuple
     smiles = Chem.MolToSmiles(Chem.RemoveHs(mol, sanitize=False))
     report = Report(
         name=st.name, input=st.input_text, smiles=smiles, mhz=opts.mhz,
-        nuclei=tuple(opts.nuclei), label=label, label_ascii=label_ascii, fragments=fragments,
+        nuclei=tuple(dict.fromkeys([*opts.nuclei, *(n.isotope.symbol for n in nuclei if n.labelled)])), label=label, label_ascii=label_ascii, fragments=fragments,
         sets=tuple(sets),
         couplings=tuple(CouplingResult((c.a, c.b), c.j_hz, c.basis, c.n_bonds) for c in couplings),
         warnings=tuple(warnings), options=_options_dict(opts), mol=mol)

@@ -41,7 +41,7 @@ def journal_listing(report_dict: dict, multiplets: dict, isotope: str = "1H") ->
     if not sets:
         return ""
     nd = _decimals(iso)
-    element = nucdata.isotope(iso).element
+    element = {"2H": "D", "3H": "T"}.get(iso, nucdata.isotope(iso).element)
     mhz = nucdata.larmor_mhz(iso, float(report_dict.get("mhz", 400.0)))
     head = _nucleus(iso)
     if nucdata.is_dilute(iso):

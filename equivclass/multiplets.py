@@ -358,6 +358,12 @@ def annotate(report_dict: dict, mol) -> dict[int, Multiplet]:
         for i, p in enumerate(plist):
             for q in plist[i + 1:]:
                 if frozenset((p, q)) in strong:
+                    jp = {round(abs(j), 2) for _, j in partners[p]}
+                    jq = {round(abs(j), 2) for _, j in partners[q]}
+                    if jp == jq and len(jp) == 1:
+                        # X part of ABX with J(AX) = J(BX): the A/B mixing leaves X a clean first-order
+                        # pattern (Pople, Schneider & Bernstein 1959, ABX analysis; recalled from memory)
+                        continue
                     reasons.append(f"partners {_letter(sets, p)} and {_letter(sets, q)} are strongly coupled "
                                    f"to each other at {mhz:g} MHz")
         if reasons:

@@ -13,8 +13,8 @@ from dataclasses import dataclass
 
 from . import nucdata
 
-PRIMES = ("", "′", "″", "‴")
-ASCII_PRIMES = ("", "'", "''", "'''")
+PRIMES = ("", "′", "″", "‴", "⁗")
+ASCII_PRIMES = ("", "'", "''", "'''", "''''")
 STRONG_RATIO = 10.0  # |Δν| < 10·|J| means strongly coupled (common practice)
 
 
@@ -70,8 +70,13 @@ def components(sets: list[SetSpec], couplings) -> list[frozenset]:
     return [frozenset(g) for g in groups.values()]
 
 
-def _prime_text(k: int, table) -> str:
-    return table[k] if k < len(table) else table[1] * k
+def prime_text(k: int, table=PRIMES) -> str:
+    """k primes: ′ ″ ‴ ⁗, then one prime with the count as a superscript (A′⁵); ASCII: A'5."""
+    if k < len(table):
+        return table[k]
+    if table is PRIMES:
+        return table[1] + str(k).translate(str.maketrans("0123456789", "⁰¹²³⁴⁵⁶⁷⁸⁹"))
+    return table[1] + str(k)
 
 
 def _letter_starts(sizes: list[int]) -> list[int]:
@@ -177,8 +182,8 @@ def _label_one(sets, sig, comp, copies, jmax, couplings, atom_set, mhz) -> Fragm
                 inequivalent = True
             for p, sub in enumerate(subs):
                 count = "" if len(sub) == 1 else str(len(sub))
-                parts.append(f"{letter}{_prime_text(p, PRIMES)}{count}")
-                parts_ascii.append(f"{letter}{_prime_text(p, ASCII_PRIMES)}{count}")
+                parts.append(f"{letter}{prime_text(p, PRIMES)}{count}")
+                parts_ascii.append(f"{letter}{prime_text(p, ASCII_PRIMES)}{count}")
     label, label_ascii = "".join(parts), "".join(parts_ascii)
     if copies > 1:
         label, label_ascii = f"{copies} × {label}", f"{copies}x{label_ascii}"

@@ -34,8 +34,8 @@ class Options:
     def checked(self) -> "Options":
         if not (self.mhz > 0 and self.mhz < 1e5):
             raise InputError(f"field {self.mhz} MHz: give a positive proton frequency in MHz, e.g. 400")
-        if self.threshold_hz < 0:
-            raise InputError("coupling threshold must not be negative")
+        if not (0 <= self.threshold_hz < 1e4):
+            raise InputError(f"coupling threshold {self.threshold_hz} Hz: give a number of Hz from 0 up, e.g. 0.3")
         if self.max_heavy_atoms < 1:
             raise InputError("size limit must be at least one heavy atom")
         if self.stereoisomer < 0:

@@ -7,6 +7,8 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 
+from .notation import prime_text
+
 CAUTION = ("Predicted from the structure: shifts, couplings and patterns are estimates, not measurements. "
            "Confirm identity and purity with measured spectra and local laboratory practice.")
 
@@ -168,10 +170,9 @@ def _pattern(m: dict | None) -> str:
 def _set_letters(s: SetResult, fragments) -> str:
     frag = fragments[s.fragment] if 0 <= s.fragment < len(fragments) else None
     per_copy = len(s.magnetic_subsets) // (frag.copies if frag else 1) or 1
-    primes = ["", "′", "″", "‴"]
     if per_copy == 1:
         return s.letter
-    return "".join(s.letter + (primes[k] if k < 4 else "′" * k) for k in range(per_copy))
+    return "".join(s.letter + prime_text(k) for k in range(per_copy))
 
 
 def first_order_sentence(f: FragmentResult, mhz: float) -> str:
@@ -179,7 +180,8 @@ def first_order_sentence(f: FragmentResult, mhz: float) -> str:
     if f.magnetically_inequivalent:
         return "magnetically inequivalent: second order at any field; simulate it."
     if f.first_order_above_mhz is None:
-        return "equal estimated shifts with coupling: second order at any field."
+        return ("coupled sets have equal estimated shifts (e.g. a diastereotopic pair whose real difference "
+                "the estimate cannot give): strongly coupled as estimated; the first-order field is unknown.")
     if f.first_order_above_mhz == 0:
         return "no homonuclear coupling between its sets: first order at any field."
     if f.first_order_above_mhz <= mhz:

@@ -263,9 +263,11 @@ def stereoisomers(mol: Chem.Mol, limit: int = MAX_STEREOISOMERS,
         embedded = _with_embedded_configuration(mol, [si.centeredOn for si in poly])
         if embedded is not None:
             mol = embedded
-            notes.append("ring-fusion/bridgehead stereo at " +
-                         ", ".join(_describe(mol, si) for si in poly) +
-                         " taken from one embedded conformer")
+            notes.append("ring-fusion/bridgehead centres " +
+                         ", ".join(f"{mol.GetAtomWithIdx(si.centeredOn).GetSymbol()}{si.centeredOn}"
+                                   for si in poly) +
+                         " unspecified: configuration read from one embedded conformer (where the ring "
+                         "system allows another, it is not analysed)")
         else:
             rest = elems
     descr = tuple(_describe(mol, si) for si in rest)

@@ -29,6 +29,7 @@ class Structure:
     mol: Chem.Mol
     n_heavy: int
     input_text: str
+    notes: tuple = ()       # facts about the input the report should repeat (radicals, SDF records)
 
 
 def _looks_like_molblock(text: str) -> bool:
@@ -104,9 +105,14 @@ def _sanitize(mol: Chem.Mol, name: str) -> Chem.Mol:
     except Exception as exc:  # any other sanitisation fault of RDKit
         raise InputError(f"{name}: structure is not chemically valid: {_one_line(exc)}") from None
     Chem.AssignStereochemistry(mol, cleanIt=True, force=True)
+    table = Chem.GetPeriodicTable()
     for atom in mol.GetAtoms():
         if atom.GetAtomicNum() == 0:
             raise InputError(f"{name}: dummy or query atom (*) at atom {atom.GetIdx()}; give a real structure")
+        mass = atom.GetIsotope()
+        if mass and table.GetMassForIsotope(atom.GetAtomicNum(), mass) == 0:
+            raise InputError(f"{name}: atom {atom.GetIdx()} is labelled with an unknown isotope "
+                             f"{mass}{atom.GetSymbol()}")
     return mol
 
 
@@ -162,7 +168,16 @@ def from_mol(mol: Chem.Mol, name: str = "input", max_heavy_atoms: int = DEFAULT_
     molh = Chem.AddHs(mol, explicitOnly=False, addCoords=mol.GetNumConformers() > 0)
     if not input_text:
         input_text = Chem.MolToSmiles(mol)
-    return Structure(name=name, mol=molh, n_heavy=heavy, input_text=input_text)
+    notes = []
+    radicals = [a.GetIdx() for a in mol.GetAtoms() if a.GetNumRadicalElectrons()]
+    if radicals:
+        notes.append("unpaired electrons at atom(s) " + ",".join(map(str, radicals)) +
+                     ": analysed as a closed shell; a radical's own spectrum is broadened or shifted "
+                     "(check the drawing if no radical was meant)")
+    n_records = input_text.count("$$$$")
+    if n_records > 1 and "M  END" in input_text:
+        notes.append(f"SDF holds {n_records} records: the first was analysed (use 'equivclass batch' for all)")
+    return Structure(name=name, mol=molh, n_heavy=heavy, input_text=input_text, notes=tuple(notes))
 
 
 def _stereo_bonds_to_cis_trans(mol: Chem.Mol) -> None:

@@ -45,7 +45,9 @@ class Graph:
 def _resonance_labels(mol: Chem.Mol):
     """Atoms whose charge and bonds whose order are set by the drawn resonance form, not by the molecule.
 
-    Neighbours of one atom with the same element where the bonds to them differ in order and one of them
+    Charges on aromatic atoms are spread over the ring (cyclopentadienide, imidazolium) and are not
+    compared. Neighbours of one atom with the same element where the bonds to them differ in order and
+    one of them
     carries a charge (nitro, carboxylate, phosphate, sulfonate, amidinium, guanidinium), or that are
     terminal chalcogens (C(=O)O−, S(=O)2O−), are made alike.
     """
@@ -76,7 +78,8 @@ def build_graph(mol: Chem.Mol, config: Configuration, budget: int = DEFAULT_STEP
     free_charge, conj_bonds = _resonance_labels(mol)
     labels = []
     for atom in mol.GetAtoms():
-        charge = 0 if atom.GetIdx() in free_charge else atom.GetFormalCharge()
+        delocalised = atom.GetIdx() in free_charge or atom.GetIsAromatic()
+        charge = 0 if delocalised else atom.GetFormalCharge()
         labels.append((atom.GetAtomicNum(), atom.GetIsotope(), charge, atom.GetDegree()))
     nbrs = [[] for _ in range(n)]
     bond_label = {}

@@ -146,8 +146,8 @@ def configuration(mol: Chem.Mol, amide_rotation_fast: bool = False) -> Configura
             continue
         subs_a = tuple(n.GetIdx() for n in atom_a.GetNeighbors() if n.GetIdx() != b)
         subs_b = tuple(n.GetIdx() for n in atom_b.GetNeighbors() if n.GetIdx() != a)
-        if not subs_a or not subs_b or len(subs_a) > 2 or len(subs_b) > 2:
-            continue
+        if not subs_a or not subs_b or len(subs_a) > 2 or len(subs_b) > 2 or set(subs_a) & set(subs_b):
+            continue  # a common neighbour (π-bound metal, three-membered ring) fixes nothing more
         st = bond.GetStereo()
         stereo_atoms = list(bond.GetStereoAtoms())
         if kind == "double" and st in (Chem.BondStereo.STEREOCIS, Chem.BondStereo.STEREOTRANS) \

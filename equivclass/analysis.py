@@ -186,9 +186,8 @@ def _with_ring_karplus(mol, couplings, threshold_hz):
         len(r) <= KARPLUS_MAX_RING for r in mol.GetRingInfo().BondRings() if b.GetIdx() in r)}
     pairs = [(c.a, c.b) for c in couplings if c.n_bonds == 3 and c.basis == "HH3_sp3" and
              _vicinal_bond(mol, c.a, c.b) in ring_bonds]
-    if not pairs:
-        return couplings
     found = karplus.ring_vicinal_couplings(mol, pairs)
+    found.update(_three_ring_vicinal(mol, couplings))
     out = []
     for c in couplings:
         hit = found.get((c.a, c.b)) or found.get((c.b, c.a))
@@ -197,6 +196,29 @@ def _with_ring_karplus(mol, couplings, threshold_hz):
         elif abs(hit[0]) >= threshold_hz:
             out.append(Coupling(c.a, c.b, hit[0], hit[1], c.n_bonds))
     return tuple(out)
+
+
+def _three_ring_vicinal(mol: Chem.Mol, couplings) -> dict:
+    """Vicinal H–H across a three-membered ring bond: the cis or trans value of data/couplings.csv,
+    cis when the H–C–C–H dihedral of the molecule's conformer is under 90°."""
+    from rdkit.Chem import rdMolTransforms
+    from .couplings import coupling_table, three_ring_kind
+    if not (mol.GetNumConformers() and mol.GetConformer().Is3D()):
+        return {}
+    conf, table, out = mol.GetConformer(), coupling_table(), {}
+    for c in couplings:
+        if c.n_bonds != 3 or c.basis != "HH3_sp3":
+            continue
+        c1 = mol.GetAtomWithIdx(c.a).GetNeighbors()[0].GetIdx()
+        c2 = mol.GetAtomWithIdx(c.b).GetNeighbors()[0].GetIdx()
+        kind = three_ring_kind(mol, c1)
+        if kind is None or three_ring_kind(mol, c2) != kind or mol.GetBondBetweenAtoms(c1, c2) is None \
+                or not any(len(r) == 3 and c1 in r and c2 in r for r in mol.GetRingInfo().AtomRings()):
+            continue
+        cis = abs(rdMolTransforms.GetDihedralDeg(conf, c.a, c1, c2, c.b)) < 90
+        rule = f"HH3_{kind}_{'cis' if cis else 'trans'}"
+        out[(c.a, c.b)] = (table[rule][0], rule)
+    return out
 
 
 def _vicinal_bond(mol: Chem.Mol, h1: int, h2: int) -> int:

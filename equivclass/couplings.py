@@ -90,11 +90,9 @@ def _ring_positions(mol: Chem.Mol, ring, atoms):
     k = ring.index(h)
     order = list(ring[k:]) + list(ring[:k])
     n = len(ring)
-    pos = []
-    for x in atoms:
-        i = order.index(x)
-        pos.append(min(i, n - i) + 1)
-    return kind, tuple(sorted(pos))
+    forward = tuple(sorted(order.index(x) + 1 for x in atoms))
+    backward = tuple(sorted((n - order.index(x)) % n + 1 for x in atoms))
+    return kind, min(forward, backward)   # numbered from the heteroatom the way that gives low locants
 
 
 def _phosphorus_kind(atom: Chem.Atom) -> str:
@@ -159,6 +157,9 @@ def _sym(z: int) -> str:
 def _classify_hh(mol, path, atoms, inner, nb, bond, planar):
     if nb == 2:
         c = inner[0]
+        three = _three_ring_kind(mol, c.GetIdx())
+        if three:
+            return f"HH2_{three}"
         if c.GetAtomicNum() == 7 and any(n.GetAtomicNum() == 6 and _is_carbonyl(n) for n in c.GetNeighbors()):
             return "HH2_amide"
         if c.GetAtomicNum() == 6 and c.GetHybridization() == Chem.HybridizationType.SP2:
@@ -197,6 +198,8 @@ def _classify_hh(mol, path, atoms, inner, nb, bond, planar):
             return "HH3_sp3"
         return "HH3_other"
     if nb == 4:
+        if _is_cumulated(bond(1, 2), bond(2, 3)):
+            return "HH4_allene"
         if all(x.GetIsAromatic() for x in inner):
             ring = _aromatic_ring(mol, path[1:4])
             if ring is not None:
@@ -212,6 +215,8 @@ def _classify_hh(mol, path, atoms, inner, nb, bond, planar):
                 return "HH4_allylic"
         return None
     if nb == 5:
+        if _is_cumulated(bond(2, 3), bond(3, 4)) or _is_cumulated(bond(1, 2), bond(2, 3)):
+            return "HH5_allene"
         if all(x.GetIsAromatic() for x in inner):
             ring = _aromatic_ring(mol, path[1:5])
             if ring is not None and len(ring) == 6 and _ring_positions(mol, ring, ())[0] == "benzene":
@@ -220,6 +225,26 @@ def _classify_hh(mol, path, atoms, inner, nb, bond, planar):
         if bond(2, 3).GetBondType() == Chem.BondType.DOUBLE and not bond(2, 3).GetIsAromatic():
             return "HH5_homoallylic"
     return None
+
+
+def _is_cumulated(b1: Chem.Bond, b2: Chem.Bond) -> bool:
+    return b1.GetBondType() == Chem.BondType.DOUBLE and b2.GetBondType() == Chem.BondType.DOUBLE
+
+
+def three_ring_kind(mol: Chem.Mol, atom: int) -> str | None:
+    """'cyclopropane', 'oxirane' or 'aziridine' when the atom is in a saturated three-membered ring."""
+    for ring in mol.GetRingInfo().AtomRings():
+        if len(ring) == 3 and atom in ring:
+            zs = {mol.GetAtomWithIdx(i).GetAtomicNum() for i in ring}
+            if 8 in zs:
+                return "oxirane"
+            if 7 in zs:
+                return "aziridine"
+            return "cyclopropane"
+    return None
+
+
+_three_ring_kind = three_ring_kind
 
 
 def _is_carbonyl(atom: Chem.Atom) -> bool:

@@ -11,7 +11,7 @@ import sys
 from rdkit import Chem
 
 from . import shifts as shift_rules
-from .couplings import Coupling, estimate as estimate_couplings, labile_protons
+from .couplings import Coupling, carbon_partner_couplings, estimate as estimate_couplings, labile_protons
 from .errors import InputError
 from .magnetic import split_all as magnetic_split_all
 from .notation import SetSpec, components, label_fragments
@@ -91,6 +91,15 @@ def _analyze_isomer(st: Structure, mol: Chem.Mol, opts: Options, warnings: tuple
         couplings = _with_ring_karplus(mol, couplings, opts.threshold_hz)
     couplings = _symmetrized(couplings, orb.generators)
     jmap = {frozenset((c.a, c.b)): c for c in couplings}
+    carbons = [a for a, n in by_atom.items() if n.dilute and n.isotope.symbol == "13C"]
+    missing = sorted({a.GetSymbol() for a in mol.GetAtoms() if a.GetAtomicNum() in (9, 15)} -
+                     {by_atom[a].isotope.element for a in by_atom})
+    if carbons and missing:
+        warnings.append(f"13C patterns leave out couplings to {', '.join(missing)}: observe "
+                        f"{','.join({'F': '19F', 'P': '31P'}[e] for e in missing)} too to see them")
+    carbon_couplings = _symmetrized(
+        carbon_partner_couplings(mol, config, carbons, partners, opts.threshold_hz), orb.generators) \
+        if carbons else ()
     user_shifts = _user_shift_map(st, orb.sets, opts, by_atom)
 
     coupled_sets = [m for m in orb.sets if not by_atom[m[0]].dilute and not all(a in labile for a in m)]
@@ -150,7 +159,8 @@ def _analyze_isomer(st: Structure, mol: Chem.Mol, opts: Options, warnings: tuple
         name=st.name, input=st.input_text, smiles=smiles, mhz=opts.mhz,
         nuclei=tuple(dict.fromkeys([*opts.nuclei, *(n.isotope.symbol for n in nuclei if n.labelled)])), label=label, label_ascii=label_ascii, fragments=fragments,
         sets=tuple(sets),
-        couplings=tuple(CouplingResult((c.a, c.b), c.j_hz, c.basis, c.n_bonds) for c in couplings),
+        couplings=tuple(CouplingResult((c.a, c.b), c.j_hz, c.basis, c.n_bonds)
+                        for c in (*couplings, *carbon_couplings)),
         warnings=tuple(warnings), options=_options_dict(opts), mol=mol)
     base = report.to_dict()
     mults = multiplets.annotate(base, mol)

@@ -138,15 +138,56 @@ def classify(mol: Chem.Mol, path, planar: dict) -> str | None:
         if nb == 2 and inner[0].GetAtomicNum() == 6:
             return "PF2_pcf"
         return None
-    if nb == 1 and pair in ("CH", "CF", "CC"):
+    if pair == "CF":
+        return _classify_cf(atoms, inner, nb)
+    if pair == "CP":
+        return _classify_cp(atoms, inner, nb)
+    if nb == 1 and pair in ("CH", "CC"):
         c = atoms[0] if za == 6 else atoms[-1]
         if pair == "CC":
             return "CC1_single" if bond(0, 1).GetBondType() == Chem.BondType.SINGLE else "CC1_multiple"
-        if pair == "CF":
-            return "CF1"
         hyb = c.GetHybridization()
+        if hyb == Chem.HybridizationType.SP3 and sum(
+                1 for n in c.GetNeighbors() if n.GetAtomicNum() in (9, 17, 35, 53)) >= 2:
+            return "CH1_sp3_halo"
         return {Chem.HybridizationType.SP3: "CH1_sp3", Chem.HybridizationType.SP: "CH1_sp"}.get(
             hyb, "CH1_sp2")
+    return None
+
+
+def _classify_cf(atoms, inner, nb):
+    """13C–19F by bond count: the carbon that carries the fluorine decides CF3, CF2, aryl or alkyl."""
+    f = atoms[0] if atoms[0].GetAtomicNum() == 9 else atoms[-1]
+    cf = f.GetNeighbors()[0]
+    nf = _n_fluorines(cf)
+    kind = "cf3" if nf >= 3 else ("aryl" if cf.GetIsAromatic() else None)
+    if nb == 1:
+        return "CF1_cf3" if nf >= 3 else ("CF1_cf2" if nf == 2 else ("CF1_aryl" if cf.GetIsAromatic()
+                                                                     else "CF1_cf"))
+    if nb in (2, 3):
+        if kind == "aryl" and not all(x.GetIsAromatic() for x in inner):
+            kind = None
+        return f"CF{nb}_{kind or 'alkyl'}"
+    if nb == 4 and kind is not None:
+        return f"CF4_{kind}" if kind == "cf3" or all(x.GetIsAromatic() for x in inner) else None
+    return None
+
+
+def _classify_cp(atoms, inner, nb):
+    """13C–31P by bond count and the kind of phosphorus (phosphine, phosphonium, P=O)."""
+    p = atoms[0] if atoms[0].GetAtomicNum() == 15 else atoms[-1]
+    c = atoms[-1] if p is atoms[0] else atoms[0]
+    kind = _phosphorus_kind(p)
+    seq = inner if p is atoms[0] else inner[::-1]     # from P towards C
+    via_oxygen = bool(seq) and seq[0].GetAtomicNum() == 8
+    if nb == 1:
+        if kind == "p5":
+            return "CP1_p5_aryl" if c.GetIsAromatic() else "CP1_p5_alkyl"
+        return f"CP1_{kind}"
+    if nb == 2:
+        return "CP2_poc" if via_oxygen else ("CP2_p3" if kind == "p3" else "CP2_p5")
+    if nb == 3:
+        return "CP3_pocc" if via_oxygen else ("CP3_p3" if kind == "p3" else "CP3_p5")
     return None
 
 
@@ -331,6 +372,34 @@ def _classify_hp(mol, path, atoms, inner, nb, bond):
     if nb == 5 and all(x.GetIsAromatic() for x in seq):
         return "HP5_aryl_para"
     return None
+
+
+def carbon_partner_couplings(mol: Chem.Mol, config: Configuration, carbons, partners,
+                             threshold_hz: float = DEFAULT_THRESHOLD_HZ) -> tuple[Coupling, ...]:
+    """Couplings of natural-abundance 13C to abundant heteronuclei (19F, 31P, 2H): the splittings a
+    1H-decoupled 13C spectrum shows. They never join the coupling network of the other nuclei."""
+    table = coupling_table()
+    planar = {frozenset((p.a, p.b)): p for p in config.planar}
+    adj = [tuple(n.GetIdx() for n in atom.GetNeighbors()) for atom in mol.GetAtoms()]
+    others = [b for b in partners if mol.GetAtomWithIdx(b).GetAtomicNum() in (9, 15) or
+              (mol.GetAtomWithIdx(b).GetAtomicNum() == 1 and mol.GetAtomWithIdx(b).GetIsotope() > 1)]
+    out = []
+    for c in carbons:
+        dist = _bfs(adj, c, 4)
+        for b in others:
+            if b not in dist:
+                continue
+            best = None
+            for path in _shortest_paths(adj, c, b, dist):
+                rule = classify(mol, path, planar)
+                if rule is None or rule not in table:
+                    continue
+                j = table[rule][0] * _gamma_scale(mol, c, b)
+                if best is None or abs(j) > abs(best[0]):
+                    best = (j, rule)
+            if best is not None and abs(best[0]) >= threshold_hz:
+                out.append(Coupling(min(c, b), max(c, b), round(best[0], 3), best[1], dist[b]))
+    return tuple(out)
 
 
 def labile_protons(mol: Chem.Mol) -> frozenset[int]:

@@ -70,3 +70,37 @@ def test_ring_vicinal_couplings_follow_karplus():
     # 3J(H1,H2eq) 2-5 Hz (Günther ch. 4, Karplus relation; common practice for assigning axial H)
     js = sorted(abs(j) for j in _j("O[C@H]1CC[C@H](C(C)(C)C)CC1", 1, 2))
     assert js[0] <= 5.5 and js[-1] >= 9.5
+
+
+def _carbon_patterns(smiles, nuclei="13C,19F,31P"):
+    d = equivclass.analyze(smiles, nuclei=nuclei).to_dict()
+    return {a: (s["multiplicity"], s.get("j_hz", [])) for s in d["sets"] if s["isotope"] == "13C"
+            for a in s["atoms"]}
+
+
+def test_carbon_fluorine_splittings_of_benzotrifluoride():
+    # Pretsch 13C-19F tables (recalled from memory): CF3 q, 1J 270-275 Hz; ipso C q, 2J about 32 Hz;
+    # ortho C q, 3J about 4 Hz — the 1:3:3:1 quartets of a 1H-decoupled 13C spectrum
+    pat = _carbon_patterns("FC(F)(F)c1ccccc1")
+    assert pat[1][0] == "q" and 260 <= pat[1][1][0] <= 290
+    assert pat[4][0] == "q" and 28 <= pat[4][1][0] <= 36
+    assert pat[5][0] == "q" and 2 <= pat[5][1][0] <= 6
+
+
+def test_carbon_phosphorus_doublets_of_triphenylphosphine():
+    # Pretsch 13C-31P (recalled from memory): PPh3 ipso |1J| about 11-12, ortho 2J about 19-20,
+    # meta 3J about 7 Hz, para 4J below 1 Hz
+    pat = _carbon_patterns("c1ccc(cc1)P(c1ccccc1)c1ccccc1")
+    assert pat[3][0] == "d" and 8 <= pat[3][1][0] <= 15
+    assert pat[2][0] == "d" and 15 <= pat[2][1][0] <= 25
+    assert pat[1][0] == "d" and 5 <= pat[1][1][0] <= 9
+
+
+def test_deuterochloroform_carbon_is_a_one_to_one_to_one_triplet():
+    # CDCl3 13C at 77.2 ppm is a 1:1:1 triplet with 1J(C,D) about 32 Hz (Gottlieb, Kotlyar & Nudelman,
+    # J. Org. Chem. 1997, solvent table; the 1:1:1 pattern of one spin-1 partner is common practice)
+    d = equivclass.analyze("ClC(Cl)(Cl)[2H]", nuclei="13C").to_dict()
+    s = next(s for s in d["sets"] if s["isotope"] == "13C")
+    assert s["multiplicity"] == "t" and 29 <= s["j_hz"][0] <= 35
+    intens = sorted(round(w, 3) for _, w in s["lines"])
+    assert intens == pytest.approx([1 / 3] * 3, abs=1e-3)

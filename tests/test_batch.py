@@ -87,14 +87,14 @@ def test_csv_output_one_row_per_record(route_smi, tmp_path):
                 "diastereotopic_sets", "second_order_fragments", "first_order_above_mhz", "warnings", "error"):
         assert col in header
     by_name = {r["name"]: r for r in rows}
-    # textbook: fluorobenzene has 3 proton sets (ortho, meta, para) and one fluorine; the ortho (and meta)
+    # Günther, NMR Spectroscopy, ch. 6 (recalled from memory): fluorobenzene has 3 proton sets (ortho, meta, para) and one fluorine; the ortho (and meta)
     # protons are chemically but not magnetically equivalent (different couplings to the other ortho H)
     assert by_name["fluoro-arene"]["sets_1H"] == "3" and by_name["fluoro-arene"]["sets_19F"] == "1"
     assert by_name["fluoro-arene"]["magnetically_inequivalent"] == "true"
-    # textbook: diethyl ether, two ethyls related by symmetry, CH2 and CH3 sets; first order
+    # Friebolin, Basic One- and Two-Dimensional NMR Spectroscopy, ch. 4 (recalled from memory): diethyl ether, two ethyls related by symmetry, CH2 and CH3 sets; first order
     assert by_name["ether-solvent"]["sets_1H"] == "2"
     assert by_name["ether-solvent"]["magnetically_inequivalent"] == "false"
-    # textbook: the CH2 protons of butan-2-ol are diastereotopic (adjacent stereocentre)
+    # Friebolin, ch. on topicity (recalled from memory): the CH2 protons of butan-2-ol are diastereotopic (adjacent stereocentre)
     assert int(by_name["butan-2-ol"]["diastereotopic_sets"]) >= 2
     assert by_name["broken-ring"]["error"].startswith("record 4:")
     assert by_name["broken-ring"]["label"] == ""
@@ -209,7 +209,7 @@ def test_filters_keep_records_with_the_property(route_smi):
 
 
 def test_reaction_summary_stereocentre_creates_diastereotopic_pair(tmp_path):
-    # textbook: reducing butan-2-one (achiral) to butan-2-ol creates a stereocentre at C2, which makes the
+    # Mislow & Raban, Top. Stereochem. 1, 1967 (recalled from memory): reducing butan-2-one (achiral) to butan-2-ol creates a stereocentre at C2, which makes the
     # two C3 methylene protons diastereotopic
     p = tmp_path / "step.smi"
     p.write_text("CCC(=O)C.[Na+].[BH4-]>CO>CCC(O)C reduction-step\n")
@@ -229,7 +229,7 @@ def test_reaction_summary_stereocentre_creates_diastereotopic_pair(tmp_path):
 
 
 def test_reaction_new_heteronuclear_partner():
-    # textbook: fluorination introduces H–F coupling partners (2J(HF) geminal in CH2F)
+    # Pretsch et al., H-F coupling tables (recalled from memory): fluorination introduces H–F coupling partners (2J(HF) geminal in CH2F)
     rec = Record(1, "fluorination", "CCO>>CCF", "reaction")
     res = analyse_record(rec, make_options())
     assert "new heteronuclear coupling: 1H-19F" in res.summary["changes"]

@@ -34,6 +34,7 @@ __all__ = ["haasnoot_j", "vicinal_j_from_geometry", "ring_vicinal_couplings", "r
            "vicinal_fragment"]
 
 _RT_KCAL = 0.0019872 * 298.15  # kcal/mol at 298.15 K
+EMBED_TIMEOUT_S = 2            # per embedding attempt; past it the caller keeps its table values
 _BASIS_RING = "Karplus (Haasnoot-de Leeuw-Altona) on {n} MMFF conformer(s), Boltzmann 298 K"
 _BASIS_CHAIN = "Karplus (Haasnoot-de Leeuw-Altona), equal-weight staggered rotamers"
 
@@ -207,6 +208,8 @@ def ring_vicinal_couplings(mol: Chem.Mol, pairs, n_conformers: int = 8, seed: in
         params.randomSeed = int(seed)
         params.numThreads = 1
         params.enforceChirality = True
+        params.timeout = EMBED_TIMEOUT_S     # a strained cage must not hold up the analysis
+        params.maxIterations = 200
         cids = list(AllChem.EmbedMultipleConfs(m, numConfs=int(n_conformers), params=params))
         if not cids:
             return {}

@@ -76,6 +76,7 @@ def rdkit_baseline(path: str) -> tuple[int, float]:
 
 TIME_LIMIT = 60.0
 OVERTIME: set = set()
+RING_COUPLINGS = "karplus"
 
 
 def timed_run(path: str, jobs: int = 1, scheduler: str | None = None) -> tuple[int, int, float]:
@@ -83,7 +84,7 @@ def timed_run(path: str, jobs: int = 1, scheduler: str | None = None) -> tuple[i
     from equivclass.options import make_options
     from equivclass.records import read_records
 
-    opts = make_options()
+    opts = make_options(ring_couplings=RING_COUPLINGS == "karplus")
     n = errors = 0
     t0 = time.perf_counter()
     with open(os.devnull, "w", encoding="utf-8") as sink:
@@ -147,7 +148,7 @@ def memory_run(src: str, lines: int, seconds: float, jobs: int, tmp: str) -> dic
     out = os.path.join(tmp, "out.jsonl")
     code = "import sys; from equivclass.cli import main; sys.exit(main())"
     cmd = [sys.executable, "-c", code, "batch", big, "-o", out, "--jobs", str(jobs),
-           "--time-limit", str(TIME_LIMIT)]
+           "--time-limit", str(TIME_LIMIT), "--ring-couplings", RING_COUPLINGS]
     t0 = time.perf_counter()
     proc = subprocess.Popen(cmd, stderr=subprocess.PIPE, stdout=subprocess.DEVNULL)
     peak, samples = 0, []
@@ -183,8 +184,11 @@ def main() -> None:
     ap.add_argument("--skip-memory", action="store_true")
     ap.add_argument("--skip-dask", action="store_true")
     ap.add_argument("--time-limit", type=float, default=TIME_LIMIT, help="Seconds per structure.")
+    ap.add_argument("--ring-couplings", choices=("karplus", "table"), default="karplus",
+                    help="ring vicinal couplings as in the batch command")
     args = ap.parse_args()
     globals()["TIME_LIMIT"] = args.time_limit
+    globals()["RING_COUPLINGS"] = args.ring_couplings
 
     src = nci_source()
     with tempfile.TemporaryDirectory() as tmp:

@@ -458,7 +458,8 @@ def flat_rows(result: Result, nuclei: tuple, mhz: float) -> Iterator[dict]:
 
 
 def _flat(result: Result, nuclei: tuple, mhz: float, kind: str) -> dict:
-    row = {"record": result.number, "name": result.name, "kind": kind, "smiles": result.text,
+    text = result.text if "\n" not in result.text.strip() else ""   # a MOL block is no SMILES
+    row = {"record": result.number, "name": result.name, "kind": kind, "smiles": text,
            "error": result.error, "warnings": result.note}
     if result.report is None:
         return row

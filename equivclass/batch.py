@@ -369,6 +369,7 @@ def _run_pool(records, opts: Options, jobs: int, chunk_size: int, limit: float) 
                 pending, pool = _restart(pending, pool, jobs, opts, limit)
     finally:
         if pending:          # stopped early (interrupt): do not wait for analyses still running
+            _silence_cancelled_futures()
             for _, fut in pending:
                 fut.cancel()
             for proc in list((getattr(pool, "_processes", None) or {}).values()):
@@ -376,6 +377,20 @@ def _run_pool(records, opts: Options, jobs: int, chunk_size: int, limit: float) 
             pool.shutdown(wait=False, cancel_futures=True)
         else:
             pool.shutdown(wait=True)
+
+
+def _silence_cancelled_futures() -> None:
+    """Terminating workers makes the pool's manager thread report futures we already cancelled; that
+    report is no fault of the run and must not print a traceback on an interrupted run."""
+    import threading
+    from concurrent.futures import InvalidStateError
+
+    previous = threading.excepthook
+
+    def hook(args):
+        if not isinstance(args.exc_value, InvalidStateError):
+            previous(args)
+    threading.excepthook = hook
 
 
 def _restart(pending: deque, pool, jobs: int, opts: Options, limit: float):

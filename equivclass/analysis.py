@@ -18,7 +18,7 @@ from .notation import SetSpec, components, label_fragments
 from .nuclei import active_nuclei
 from .options import Options, make_options
 from .report import CouplingResult, FragmentResult, Report, SetResult, WitnessResult
-from .stereo import configuration, stereoisomers, with_conformer
+from .stereo import configuration, is_metal, stereoisomers, with_conformer
 from .structure import Structure, read_structure
 from .symmetry import SymmetryTooComplex, build_graph, orbits, pair_classes
 from . import karplus, listing, multiplets
@@ -175,7 +175,8 @@ KARPLUS_MAX_RING = 8           # larger rings are flexible: their vicinal coupli
 def _has_ring_ch2_ch(mol: Chem.Mol) -> bool:
     """True when some bond of a ring of at most KARPLUS_MAX_RING atoms joins two sp3 carbons that both
     carry hydrogen, in a molecule small enough to embed quickly."""
-    if sum(1 for a in mol.GetAtoms() if a.GetAtomicNum() > 1) > KARPLUS_MAX_HEAVY_ATOMS:
+    if sum(1 for a in mol.GetAtoms() if a.GetAtomicNum() > 1) > KARPLUS_MAX_HEAVY_ATOMS or \
+            any(is_metal(a) or a.GetDegree() > 4 for a in mol.GetAtoms()):
         return False
     ring_info = mol.GetRingInfo()
     for b in mol.GetBonds():

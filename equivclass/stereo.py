@@ -17,6 +17,7 @@ _MAIN_GROUP_TETRAHEDRAL = {5, 6, 7, 13, 14, 15, 16, 32, 33, 34, 50, 51, 52}
 _LONE_PAIR_PYRAMIDAL = {15, 16, 33, 34, 51, 52}  # P, S, As, Se, Sb, Te invert slowly (common practice)
 _CHALCOGENS = {8, 16}
 MAX_STEREOISOMERS = 64
+EMBED_TIMEOUT_S = 5   # per embedding attempt; a structure that will not embed falls back to its tags
 
 
 @dataclass(frozen=True)
@@ -175,9 +176,12 @@ def _embedded_coordinates(mol: Chem.Mol):
     are read from real geometry rather than chosen freely.
     """
     from rdkit.Chem import AllChem
+    if any(a.GetDegree() > 4 or is_metal(a) for a in mol.GetAtoms()):
+        return None   # force-field geometry of metal and hypervalent centres is not meaningful here
     params = AllChem.ETKDGv3()
     params.randomSeed = 0xEC
     params.enforceChirality = True
+    params.timeout = EMBED_TIMEOUT_S
     m = Chem.Mol(mol)
     try:
         if AllChem.EmbedMolecule(m, params) != 0:
@@ -187,6 +191,13 @@ def _embedded_coordinates(mol: Chem.Mol):
     except Exception:
         return None
     return m.GetConformer().GetPositions()
+
+
+def is_metal(atom: Chem.Atom) -> bool:
+    """Alkali, alkaline-earth, transition, post-transition and f-block metals."""
+    z = atom.GetAtomicNum()
+    return z in (3, 4, 11, 12, 13, 19, 20, 31, 37, 38, 49, 50, 55, 56, 81, 82, 83) or 21 <= z <= 30 or \
+        39 <= z <= 48 or 57 <= z <= 80 or z >= 87
 
 
 def _signed_volume(coords, centre: int, nbrs) -> int:

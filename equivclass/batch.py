@@ -350,18 +350,21 @@ def _run_pool(records, opts: Options, jobs: int, chunk_size: int, limit: float) 
     window = jobs * WINDOW_PER_WORKER
     pool = _pool(jobs)
     pending: deque = deque()
+    chunks = iter(_chunks(records, chunk_size))
+    exhausted = False
     try:
-        for chunk in _chunks(records, chunk_size):
-            pending.append((chunk, pool.submit(analyse_chunk, chunk, opts, limit)))
-            while len(pending) >= window:
-                chunk0, fut = pending.popleft()
-                try:
-                    yield from fut.result()
-                except BrokenProcessPool:
-                    yield from _lost(chunk0, "a worker process died while analysing this record's group")
-                    pending, pool = _restart(pending, pool, jobs, opts, limit)
-        while pending:
-            chunk0, fut = pending.popleft()
+        while True:
+            if not exhausted:
+                chunk = next(chunks, None)
+                if chunk is None:
+                    exhausted = True
+                else:
+                    pending.append((chunk, pool.submit(analyse_chunk, chunk, opts, limit)))
+            if not pending:
+                break
+            if not exhausted and len(pending) < window:
+                continue
+            chunk0, fut = pending.popleft()     # the oldest group: results stay in input order
             try:
                 yield from fut.result()
             except BrokenProcessPool:

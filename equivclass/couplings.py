@@ -378,7 +378,6 @@ def carbon_partner_couplings(mol: Chem.Mol, config: Configuration, carbons, part
                              threshold_hz: float = DEFAULT_THRESHOLD_HZ) -> tuple[Coupling, ...]:
     """Couplings of natural-abundance 13C to abundant heteronuclei (19F, 31P, 2H): the splittings a
     1H-decoupled 13C spectrum shows. They never join the coupling network of the other nuclei."""
-    table = coupling_table()
     planar = {frozenset((p.a, p.b)): p for p in config.planar}
     adj = [tuple(n.GetIdx() for n in atom.GetNeighbors()) for atom in mol.GetAtoms()]
     others = [b for b in partners if mol.GetAtomWithIdx(b).GetAtomicNum() in (9, 15) or
@@ -389,14 +388,7 @@ def carbon_partner_couplings(mol: Chem.Mol, config: Configuration, carbons, part
         for b in others:
             if b not in dist:
                 continue
-            best = None
-            for path in _shortest_paths(adj, c, b, dist):
-                rule = classify(mol, path, planar)
-                if rule is None or rule not in table:
-                    continue
-                j = table[rule][0] * _gamma_scale(mol, c, b)
-                if best is None or abs(j) > abs(best[0]):
-                    best = (j, rule)
+            best = _best_estimate(mol, adj, c, b, dist, planar)
             if best is not None and abs(best[0]) >= threshold_hz:
                 out.append(Coupling(min(c, b), max(c, b), round(best[0], 3), best[1], dist[b]))
     return tuple(out)
@@ -422,7 +414,6 @@ def labile_protons(mol: Chem.Mol) -> frozenset[int]:
 def estimate(mol: Chem.Mol, config: Configuration, partners, decoupled=frozenset(),
              threshold_hz: float = DEFAULT_THRESHOLD_HZ) -> tuple[Coupling, ...]:
     """Non-zero couplings among `partners` (atom indices of abundant or enriched active nuclei)."""
-    table = coupling_table()
     planar = {frozenset((p.a, p.b)): p for p in config.planar}
     partners = sorted(set(partners) - set(decoupled))
     adj = [tuple(n.GetIdx() for n in atom.GetNeighbors()) for atom in mol.GetAtoms()]
@@ -432,17 +423,25 @@ def estimate(mol: Chem.Mol, config: Configuration, partners, decoupled=frozenset
         for b in partners:
             if b <= a or b not in dist:
                 continue
-            best = None
-            for path in _shortest_paths(adj, a, b, dist):
-                rule = classify(mol, path, planar)
-                if rule is None or rule not in table:
-                    continue
-                j = table[rule][0] * _gamma_scale(mol, a, b)
-                if best is None or abs(j) > abs(best[0]) or (abs(j) == abs(best[0]) and rule < best[1]):
-                    best = (j, rule)
+            best = _best_estimate(mol, adj, a, b, dist, planar)
             if best is not None and abs(best[0]) >= threshold_hz:
                 out.append(Coupling(a, b, round(best[0], 3), best[1], dist[b]))
     return tuple(out)
+
+
+def _best_estimate(mol, adj, a, b, dist, planar):
+    """(J, rule) over all shortest paths a…b: the largest |J|, ties broken by rule name, so that
+    symmetry-related pairs get one estimate; None when no rule applies."""
+    table = coupling_table()
+    best = None
+    for path in _shortest_paths(adj, a, b, dist):
+        rule = classify(mol, path, planar)
+        if rule is None or rule not in table:
+            continue
+        j = table[rule][0] * _gamma_scale(mol, a, b)
+        if best is None or abs(j) > abs(best[0]) or (abs(j) == abs(best[0]) and rule < best[1]):
+            best = (j, rule)
+    return best
 
 
 def _gamma_scale(mol: Chem.Mol, a: int, b: int) -> float:

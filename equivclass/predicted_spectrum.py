@@ -132,15 +132,27 @@ def spectrum_of(report, observe: str = "1H", decouple=(), max_block: int = MAX_B
         label, copies = frag["label"], int(frag["copies"])
         single = [s for s in f_sets if s.get("dilute") or s.get("exchange_decoupled")]
         coupled = [s for s in f_sets if s not in single]
+        split_by_heteronuclei = False
         for s in single:
-            if s["isotope"] == observe:
+            if s["isotope"] != observe:
+                continue
+            if s.get("dilute") and any(a in neighbours for a in s["atoms"]):
+                # natural-abundance 13C with 19F, 31P or 2H partners: their first-order splitting
+                f, a = _first_order(s["atoms"], sets, set_of_atom, neighbours, observe, decoupled, observe_mhz)
+                freqs.append(f)
+                amps.append(a)
+                split_by_heteronuclei = True
+            else:
                 freqs.append(np.array([s["shift_ppm"] * observe_mhz]))
                 amps.append(np.array([float(len(s["atoms"]))]))
         if not any(s["isotope"] == observe for s in coupled):
             dilute = any(s.get("dilute") for s in single if s["isotope"] == observe)
-            why = ("dilute isotope at natural abundance: singlet (couplings to other nuclei not "
-                   "included, as with broadband decoupling)" if dilute else "")
-            notes.append(FragmentNote(index, label, copies, "singlet", n_obs, 0, why))
+            why = ("dilute isotope at natural abundance: 1H-decoupled; first-order splitting by "
+                   "19F/31P/2H partners only" if split_by_heteronuclei else
+                   "dilute isotope at natural abundance: singlet (1H-decoupled; no heteronuclear partner "
+                   "observed)" if dilute else "")
+            notes.append(FragmentNote(index, label, copies, "first order" if split_by_heteronuclei
+                                      else "singlet", n_obs, 0, why))
             continue
         atoms = sorted(a for s in coupled for a in s["atoms"])
         comps = _components(atoms, neighbours)

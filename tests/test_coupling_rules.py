@@ -104,3 +104,34 @@ def test_deuterochloroform_carbon_is_a_one_to_one_to_one_triplet():
     assert s["multiplicity"] == "t" and 29 <= s["j_hz"][0] <= 35
     intens = sorted(round(w, 3) for _, w in s["lines"])
     assert intens == pytest.approx([1 / 3] * 3, abs=1e-3)
+
+
+def test_carbon_spectrum_shows_the_cf3_quartet_and_loses_it_when_19f_is_decoupled():
+    # benzotrifluoride 13C{1H}: the CF3 carbon is a 1:3:3:1 quartet, 1J(C,F) about 272 Hz (Pretsch
+    # 13C-19F tables, recalled from memory; binomial intensities by math.comb); with 19F decoupled too,
+    # every carbon is a singlet (common practice)
+    import math
+
+    import numpy as np
+
+    from equivclass.predicted_spectrum import predict
+
+    report = equivclass.analyze("FC(F)(F)c1ccccc1", nuclei="13C,19F")
+    cf3_shift = next(s.shift_ppm for s in report.sets if 1 in s.atoms)
+    pred = predict("FC(F)(F)c1ccccc1", observe="13C", nuclei="13C,19F")
+    f, a = np.asarray(pred.transitions.freqs_hz), np.asarray(pred.transitions.intensities)
+    assert a.sum() == pytest.approx(7.0)                       # seven carbons
+    centre = cf3_shift * pred.observe_mhz
+    # the quartet sits at ±J/2 and ±3J/2 about the CF3 shift; aromatic carbons lie elsewhere
+    inner = sorted((fr, w) for fr, w in zip(f, a) if 100 < abs(fr - centre) < 160)
+    assert len(inner) == 2
+    j = inner[1][0] - inner[0][0]
+    assert 260 <= j <= 290
+    outer = [next((fr, w) for fr, w in zip(f, a) if abs(fr - x) < 0.01)
+             for x in (inner[0][0] - j, inner[1][0] + j)]
+    weights = np.array([outer[0][1], inner[0][1], inner[1][1], outer[1][1]])
+    binomial = np.array([math.comb(3, k) for k in range(4)], dtype=float)
+    assert weights / weights.sum() == pytest.approx(binomial / binomial.sum(), abs=1e-9)
+    decoupled = predict("FC(F)(F)c1ccccc1", observe="13C", decouple=("19F",), nuclei="13C,19F")
+    assert len(set(np.round(decoupled.transitions.freqs_hz, 6))) == 5
+    assert math.isclose(float(np.sum(decoupled.transitions.intensities)), 7.0, rel_tol=1e-9)

@@ -131,6 +131,65 @@ def label_fragments(sets: list[SetSpec], couplings, mhz: float) -> list[Fragment
     return out
 
 
+def _subset_text(letter, subs, table) -> str:
+    return "".join(f"{letter}{prime_text(p, table)}{'' if len(sub) == 1 else len(sub)}"
+                   for p, sub in enumerate(subs))
+
+
+def _composite(sets, order, letters, comp_set, couplings):
+    """[AA′BB′C]₃X form: identical sub-systems that couple to one another only through one shared set of
+    another isotope (the three rings of triphenylphosphine through P). None when there is no such form."""
+    for hub in order:
+        hub_atoms = set(sets[hub].atoms) & comp_set
+        rest = comp_set - hub_atoms
+        others = [i for i in order if i != hub]
+        if not rest or any(sets[i].isotope.symbol == sets[hub].isotope.symbol for i in others):
+            continue   # the shared set is a heteronucleus (P, F, Si …) joining proton sub-systems
+        parent = {a: a for a in rest}
+
+        def find(x):
+            while parent[x] != x:
+                parent[x] = parent[parent[x]]
+                x = parent[x]
+            return x
+
+        for c in couplings:
+            if c.a in parent and c.b in parent:
+                parent[find(c.a)] = find(c.b)
+        for i in order:
+            for sub in sets[i].subsets:
+                inside = [a for a in sub if a in parent]
+                for a in inside[1:]:
+                    parent[find(a)] = find(inside[0])
+        groups = {}
+        for a in rest:
+            groups.setdefault(find(a), set()).add(a)
+        parts = list(groups.values())
+        k = len(parts)
+        if k < 2 or len({len(g) for g in parts}) != 1:
+            continue
+        set_of = {a: i for i in order for a in sets[i].atoms}
+        signatures = {tuple(sorted(set_of[a] for a in g)) for g in parts}
+        if len(signatures) != 1:
+            continue
+        copy = parts[0]
+        text, ascii_text = "", ""
+        for i in order:
+            if i == hub:
+                continue
+            subs = [sub for sub in sets[i].subsets if set(sub) <= copy]
+            text += _subset_text(letters[i], subs, PRIMES)
+            ascii_text += _subset_text(letters[i], subs, ASCII_PRIMES)
+        hub_subs = [sub for sub in sets[hub].subsets if set(sub) <= comp_set] or [tuple(hub_atoms)]
+        hub_text = _subset_text(letters[hub], hub_subs, PRIMES)
+        hub_ascii = _subset_text(letters[hub], hub_subs, ASCII_PRIMES)
+        sub_k = str(k).translate(str.maketrans("0123456789", "₀₁₂₃₄₅₆₇₈₉"))
+        if order.index(hub) < min(order.index(i) for i in order if i != hub):
+            return f"{hub_text}[{text}]{sub_k}", f"{hub_ascii}[{ascii_text}]{k}"
+        return f"[{text}]{sub_k}{hub_text}", f"[{ascii_text}]{k}{hub_ascii}"
+    return None
+
+
 def _label_one(sets, sig, comp, copies, jmax, couplings, atom_set, mhz) -> FragmentLabel:
     comp_set = set(comp)
     order = sorted(sig, key=lambda i: (-abs(sets[i].isotope.gamma), sets[i].isotope.symbol,
@@ -185,6 +244,10 @@ def _label_one(sets, sig, comp, copies, jmax, couplings, atom_set, mhz) -> Fragm
                 parts.append(f"{letter}{prime_text(p, PRIMES)}{count}")
                 parts_ascii.append(f"{letter}{prime_text(p, ASCII_PRIMES)}{count}")
     label, label_ascii = "".join(parts), "".join(parts_ascii)
+    if inequivalent:
+        composite = _composite(sets, [i for c in clusters for i in c], letters, comp_set, couplings)
+        if composite:
+            label, label_ascii = composite
     if copies > 1:
         label, label_ascii = f"{copies} × {label}", f"{copies}x{label_ascii}"
     first_order = None if (inequivalent or never_first_order) else round(threshold, 1)

@@ -28,3 +28,18 @@ def test_first_order_field_is_ten_j_over_delta():
     d = _ethyl(400)
     (frag,) = [f for f in d["fragments"] if len(f["sets"]) == 2]
     assert abs(frag["first_order_above_mhz"] - 700.0) < 1.0
+
+
+def test_identical_subsystems_sharing_a_heteronucleus_use_the_bracket_form():
+    # Pople notation writes identical sub-systems that couple to each other only through one shared
+    # nucleus as [..]n X, e.g. [AA'BB'C]3X for triphenylphosphine (Günther, NMR Spectroscopy, ch. 6;
+    # recalled from memory). Letters inside depend on the shift estimates; the form does not.
+    import re
+
+    pph3 = equivclass.analyze("c1ccc(cc1)P(c1ccccc1)c1ccccc1").to_dict()["label"]
+    assert re.fullmatch(r"\[[A-W]+'?[A-W]?'?[A-W]?'?[A-W]?'?[A-W]?'?\]3X", pph3), pph3
+    assert pph3.count("'") == 2       # ortho and meta pairs of one ring are AA'-type
+    teph = equivclass.analyze("CCOP(=O)(OCC)OCC").to_dict()["label"]
+    assert re.fullmatch(r"\[A3[B-W]2\]3X", teph), teph
+    # a proton hub never makes brackets: pyridazine stays AA'XX' (Günther ch. 5, recalled from memory)
+    assert equivclass.analyze("c1ccnnc1").to_dict()["label"] == "AA'XX'"

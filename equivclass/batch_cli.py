@@ -32,7 +32,7 @@ from .records import LAYOUTS, count_records, read_records
                    "always written.")
 @click.option("--time-limit", type=float, default=60.0, show_default=True, metavar="SECONDS",
               help="A structure taking longer becomes an error row (0 = no limit; not applied on a cluster).")
-@click.option("--strict", is_flag=True, help="Exit 1 when any record could not be analysed.")
+@click.option("--strict", is_flag=True, help="Exit 1 when any record could not be analysed, or the input held none.")
 @model_options
 @guarded
 def batch(input_path, output, fmt, layout, column, name_column, jobs, cluster, keep, time_limit, strict, **kw):
@@ -81,5 +81,5 @@ def batch(input_path, output, fmt, layout, column, name_column, jobs, cluster, k
     click.echo(f"equivclass batch: {n} records, {errors} errors, {written} written{tail}", err=True)
     if interrupted:
         sys.exit(130)
-    if strict and errors:
+    if strict and (errors or n == 0):   # strict: a failed record, or an input with no record, fails
         sys.exit(1)

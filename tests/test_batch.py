@@ -281,3 +281,11 @@ def test_time_limit_turns_a_long_analysis_into_an_error_row():
     slow = analyse_record(Record(3, "long-chain", "C" * 40, "smiles"), opts, time_limit=0.001)
     assert slow.error.startswith("record 3: long-chain: analysis stopped after 0.001 s")
     assert analyse_record(Record(4, "ethanol", "CCO", "smiles"), opts, time_limit=60).error == ""
+
+
+def test_strict_mode_fails_on_an_input_without_records(tmp_path):
+    # an empty file analysed strictly is a failed run (common practice for pipeline steps)
+    empty = tmp_path / "empty.sdf"
+    empty.write_text("")
+    assert _invoke([str(empty), "--strict"]).exit_code == 1
+    assert _invoke([str(empty)]).exit_code == 0

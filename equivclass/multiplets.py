@@ -76,7 +76,9 @@ def spin_pattern(spin: float, n: int) -> np.ndarray:
     return coeffs / coeffs.sum()
 
 
-def _merge(lines: dict[float, float] | list[tuple[float, float]]) -> tuple[tuple[float, float], ...]:
+def _merge(lines: dict[float, float] | list[tuple[float, float]],
+           normalise: bool = True) -> tuple[tuple[float, float], ...]:
+    """Lines closer than MERGE_LINE_HZ become one; intensities scaled to sum 1 unless `normalise` is off."""
     items = sorted(lines.items() if isinstance(lines, dict) else lines)
     out: list[list[float]] = []
     for pos, w in items:
@@ -84,7 +86,7 @@ def _merge(lines: dict[float, float] | list[tuple[float, float]]) -> tuple[tuple
             out[-1][1] += w
         else:
             out.append([pos, w])
-    total = sum(w for _, w in out) or 1.0
+    total = (sum(w for _, w in out) or 1.0) if normalise else 1.0
     return tuple((float(round(p, 6)) + 0.0, float(w / total)) for p, w in out)
 
 
@@ -240,14 +242,7 @@ def _satellites(mol: Chem.Mol, r: int, observed: str,
 
 
 def _merge_abs(lines: list[tuple[float, float]]) -> tuple[tuple[float, float], ...]:
-    items = sorted(lines)
-    out: list[list[float]] = []
-    for pos, w in items:
-        if out and abs(pos - out[-1][0]) <= MERGE_LINE_HZ:
-            out[-1][1] += w
-        else:
-            out.append([pos, w])
-    return tuple((float(round(p, 6)) + 0.0, float(w)) for p, w in out)
+    return _merge(lines, normalise=False)
 
 
 # --------------------------------------------------------------------------- annotate

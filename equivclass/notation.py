@@ -41,9 +41,9 @@ class FragmentLabel:
     strongly_coupled_pairs: tuple
 
 
-def components(sets: list[SetSpec], couplings) -> list[frozenset]:
-    """Atoms of each connected component of the coupling network (magnetic subsets kept together)."""
-    atoms = [a for s in sets for a in s.atoms]
+def _connected(atoms, couplings, groups) -> list[set]:
+    """Connected components of `atoms` joined by the couplings and by each group of `groups`
+    (magnetic subsets: magnetically equivalent nuclei act as one node)."""
     parent = {a: a for a in atoms}
 
     def find(x):
@@ -60,14 +60,20 @@ def components(sets: list[SetSpec], couplings) -> list[frozenset]:
     for c in couplings:
         if c.a in parent and c.b in parent:
             union(c.a, c.b)
-    for s in sets:  # magnetically equivalent nuclei act as one group
-        for sub in s.subsets:
-            for a in sub[1:]:
-                union(sub[0], a)
-    groups = {}
+    for group in groups:
+        inside = [a for a in group if a in parent]
+        for a in inside[1:]:
+            union(inside[0], a)
+    out = {}
     for a in atoms:
-        groups.setdefault(find(a), set()).add(a)
-    return [frozenset(g) for g in groups.values()]
+        out.setdefault(find(a), set()).add(a)
+    return list(out.values())
+
+
+def components(sets: list[SetSpec], couplings) -> list[frozenset]:
+    """Atoms of each connected component of the coupling network (magnetic subsets kept together)."""
+    atoms = [a for s in sets for a in s.atoms]
+    return [frozenset(g) for g in _connected(atoms, couplings, [sub for s in sets for sub in s.subsets])]
 
 
 def prime_text(k: int, table=PRIMES) -> str:
@@ -145,26 +151,7 @@ def _composite(sets, order, letters, comp_set, couplings):
         others = [i for i in order if i != hub]
         if not rest or any(sets[i].isotope.symbol == sets[hub].isotope.symbol for i in others):
             continue   # the shared set is a heteronucleus (P, F, Si …) joining proton sub-systems
-        parent = {a: a for a in rest}
-
-        def find(x):
-            while parent[x] != x:
-                parent[x] = parent[parent[x]]
-                x = parent[x]
-            return x
-
-        for c in couplings:
-            if c.a in parent and c.b in parent:
-                parent[find(c.a)] = find(c.b)
-        for i in order:
-            for sub in sets[i].subsets:
-                inside = [a for a in sub if a in parent]
-                for a in inside[1:]:
-                    parent[find(a)] = find(inside[0])
-        groups = {}
-        for a in rest:
-            groups.setdefault(find(a), set()).add(a)
-        parts = list(groups.values())
+        parts = _connected(sorted(rest), couplings, [sub for i in order for sub in sets[i].subsets])
         k = len(parts)
         if k < 2 or len({len(g) for g in parts}) != 1:
             continue

@@ -30,20 +30,31 @@ TOL_HZ = 1e-6
 TOL_REL = 1e-6
 
 
-def _assert_lines(freqs, ints, expected, tol_hz=TOL_HZ, tol_rel=TOL_REL):
-    """Compare a line list with an expected list of (frequency, intensity).
-
-    Expected lines closer than 1e-6 Hz are merged first (as the simulator
-    does); expected lines below 1e-9 of the strongest are dropped.
-    """
-    exp = sorted(expected)
+def _pool(pairs, tol):
+    """Merge (frequency, intensity) pairs closer than ``tol`` Hz (weighted position)."""
     merged = []
-    for f, a in exp:
-        if merged and abs(f - merged[-1][0]) < 1e-6:
+    for f, a in sorted(pairs):
+        if merged and abs(f - merged[-1][0]) < tol:
             f0, a0 = merged[-1]
             merged[-1] = ((f0 * a0 + f * a) / (a0 + a), a0 + a)
         else:
             merged.append((f, a))
+    return merged
+
+
+def _assert_lines(freqs, ints, expected, tol_hz=TOL_HZ, tol_rel=TOL_REL, merge_hz=None):
+    """Compare a line list with an expected list of (frequency, intensity).
+
+    Expected lines closer than 1e-6 Hz are merged first (as the simulator
+    does); expected lines below 1e-9 of the strongest are dropped.  With
+    ``merge_hz``, both lists are first pooled at that tolerance (for
+    single-precision results, whose degenerate lines split by ~1e-5 Hz).
+    """
+    merged = _pool(expected, merge_hz or 1e-6)
+    if merge_hz:
+        got = _pool(zip(freqs, ints), merge_hz)
+        freqs = np.array([f for f, _ in got])
+        ints = np.array([a for _, a in got])
     amax = max(a for _, a in merged)
     merged = [(f, a) for f, a in merged if a >= 1e-9 * amax]
     assert len(freqs) == len(merged), (len(freqs), len(merged), freqs, merged)
@@ -228,6 +239,75 @@ def test_aaxx_matches_analytic(j_aa, j_xx, j_ax, j_ax2):
     # A and A' are not magnetically equivalent: no composite group may form
     assert sorted(map(sorted, equivalent_groups(system.shifts_hz, jm, list(system.spins),
                                                 list(system.isotopes)))) == [[0], [1], [2], [3]]
+
+
+# ----------------------------------------------------------------------------- large-block path
+
+@pytest.fixture(params=["lapack via ctypes", "scipy fallback"])
+def single_precision_everywhere(request, monkeypatch):
+    """Send every Fz block through the single-precision solver used for large blocks."""
+    import equivclass.simulate as simulate_module
+    monkeypatch.setattr(simulate_module, "SINGLE_PRECISION_FROM", 1)
+    if request.param == "scipy fallback":
+        monkeypatch.setattr(simulate_module, "_SINGLE_SOLVER", None)
+    elif simulate_module._single_solver() is None:
+        pytest.skip("no OpenBLAS LAPACKE symbol loaded on this platform")
+    return request.param
+
+
+def test_single_precision_path_matches_analytic_abx_and_aaxx(single_precision_everywhere):
+    # same closed forms as above (PSB 1959 sect. 6-5; Harris 1983 table 5-5); single
+    # precision keeps positions to ~1e-5 Hz and intensities to ~1e-6 relative
+    params = (40.0, 40.5, 10.0, 17.0, 2.0, 9.0)
+    nu_a, nu_b, nu_x, j_ab, j_ax, j_bx = params
+    system = SpinSystem((nu_a, nu_b, nu_x), ((0, j_ab, j_ax), (j_ab, 0, j_bx), (j_ax, j_bx, 0)),
+                        (0.5, 0.5, 0.5), ("1H", "1H", "19F"))
+    ab, x = abx_analytic(*params)
+    t = simulate(system, "1H")
+    _assert_lines(t.freqs_hz, t.intensities, ab, tol_hz=1e-3, tol_rel=1e-5, merge_hz=1e-3)
+    j_aa, j_xx, j_ax, j_ax2 = (-3.0, 8.0, 12.0, -2.5)
+    jm = [[0, j_aa, j_ax, j_ax2], [j_aa, 0, j_ax2, j_ax],
+          [j_ax, j_ax2, 0, j_xx], [j_ax2, j_ax, j_xx, 0]]
+    system = SpinSystem((310.0, 310.0, -2000.0, -2000.0), jm, (0.5,) * 4,
+                        ("1H", "1H", "19F", "19F"))
+    t = simulate(system, "1H", use_groups=False)
+    _assert_lines(t.freqs_hz, t.intensities, aaxx_analytic(310.0, j_aa, j_xx, j_ax, j_ax2),
+                  tol_hz=1e-3, tol_rel=1e-5, merge_hz=1e-3)
+
+
+def test_single_precision_path_keeps_sum_rule_and_ab(single_precision_everywhere):
+    # sum rule (PSB 1959 sect. 6-1) on a strongly coupled 8-spin system, and the AB quartet
+    rng = np.random.default_rng(5)
+    n = 8
+    jm = np.triu(rng.uniform(-15, 15, (n, n)), 1)
+    f, a = lines(rng.uniform(0, 40, n), jm + jm.T)
+    assert abs(a.sum() - n) < 1e-5 * n
+    f, a = lines([0.0, 10.0], [[0, 5.0], [5.0, 0]])
+    _assert_lines(f, a, ab_analytic(0.0, 10.0, 5.0), tol_hz=1e-4, tol_rel=1e-5)
+
+
+def test_one_core_runs_blocks_inline(monkeypatch):
+    # without worker threads the blocks run one after another, same ABX result (PSB 1959)
+    import equivclass.simulate as simulate_module
+    monkeypatch.setattr(simulate_module.os, "cpu_count", lambda: 1)
+    params = (0.0, 12.0, -300.0, -15.0, 40.0, 5.0)
+    nu_a, nu_b, nu_x, j_ab, j_ax, j_bx = params
+    system = SpinSystem((nu_a, nu_b, nu_x), ((0, j_ab, j_ax), (j_ab, 0, j_bx), (j_ax, j_bx, 0)),
+                        (0.5, 0.5, 0.5), ("1H", "1H", "19F"))
+    _assert_lines(simulate(system, "1H").freqs_hz, simulate(system, "1H").intensities,
+                  abx_analytic(*params)[0])
+
+
+@pytest.mark.slow
+def test_thirteen_spins_use_large_blocks_and_keep_sum_rule():
+    # 13 coupled protons: the Fz blocks of 1287 and 1716 states take the
+    # single-precision route; the sum rule (PSB 1959 sect. 6-1) still holds
+    rng = np.random.default_rng(13)
+    n = 13
+    jm = np.triu(rng.uniform(0, 15, (n, n)), 1)
+    f, a = lines(rng.uniform(0, 800, n), jm + jm.T)
+    assert abs(a.sum() - n) < 1e-5 * n
+    assert np.all(np.diff(f) > 0)
 
 
 # ----------------------------------------------------------------------------- first order

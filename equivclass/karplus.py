@@ -164,11 +164,23 @@ def _ring_pairs(mol: Chem.Mol, pairs) -> list[tuple[int, int, int, int]]:
     return out
 
 
-def _labelled_faces(mol: Chem.Mol, seed: int) -> Chem.Mol | None:
-    """A conformer-free copy whose every tetrahedral atom carries the chiral tag read from a reference
-    geometry (the molecule's own 3D conformer if it has one, else one ETKDG embedding): which of two
-    CH2 hydrogens lies on which ring face is then fixed, and only conformations (ring inversion,
-    twists) vary between the conformers embedded from it."""
+def _signed_volume(conf, centre: int, around) -> float:
+    """(p1 - p0) . ((p2 - p0) x (p3 - p0)) of the four neighbours ``around`` of ``centre``."""
+    p = [conf.GetAtomPosition(i) for i in around]
+    u, v, w = p[1] - p[0], p[2] - p[0], p[3] - p[0]
+    return u.DotProduct(v.CrossProduct(w))
+
+
+def _labelled_faces(mol: Chem.Mol, seed: int):
+    """A conformer-free copy whose tetrahedral ring atoms carry the configuration of a reference
+    geometry (the molecule's own 3D conformer if it has one, else one ETKDG embedding), plus the ring
+    CH2 groups whose two hydrogens are told apart by face, as [(hydrogen a, hydrogen b, neighbours,
+    reference signed volume)]; None if no geometry can be made.
+
+    Which CH2 hydrogen lies on which face must match the reference. Enforcing that as a chiral
+    constraint during embedding makes ETKDG return mostly twist-boats; instead those CH2 carbons are
+    left free, and in each new conformer the two hydrogens trade places where their face is wrong
+    (the same geometry, relabelled). Other ring centres keep their tags as constraints."""
     m = Chem.Mol(mol)
     if not (m.GetNumConformers() and m.GetConformer().Is3D()):
         m.RemoveAllConformers()
@@ -178,19 +190,182 @@ def _labelled_faces(mol: Chem.Mol, seed: int) -> Chem.Mol | None:
         if AllChem.EmbedMolecule(m, params) != 0:
             return None
     keep = {a.GetIdx(): a.GetChiralTag() for a in m.GetAtoms()}
-    Chem.AssignAtomChiralTagsFromStructure(m, confId=m.GetConformer().GetId(), replaceExistingTags=True)
+    ref = m.GetConformer()
+    Chem.AssignAtomChiralTagsFromStructure(m, confId=ref.GetId(), replaceExistingTags=True)
+    faces = []
     for a in m.GetAtoms():  # faces matter only at ring atoms; elsewhere keep the input's own tags
         if not (a.IsInRing() and a.GetDegree() == 4):
             a.SetChiralTag(keep[a.GetIdx()])
+            continue
+        hs = [n for n in a.GetNeighbors() if n.GetAtomicNum() == 1]
+        if len(hs) == 2 and hs[0].GetIsotope() == hs[1].GetIsotope():
+            around = tuple(n.GetIdx() for n in a.GetNeighbors())
+            faces.append((hs[0].GetIdx(), hs[1].GetIdx(), a.GetIdx(), around,
+                          _signed_volume(ref, a.GetIdx(), around)))
+            a.SetChiralTag(Chem.ChiralType.CHI_UNSPECIFIED)
     m.RemoveAllConformers()
-    return m
+    return m, faces
 
 
-def ring_vicinal_couplings(mol: Chem.Mol, pairs, n_conformers: int = 8, seed: int = 20240611,
+def _match_faces(conf, faces) -> None:
+    """Swap the two hydrogens of every listed CH2 whose face differs from the reference."""
+    for ha, hb, centre, around, sign in faces:
+        if _signed_volume(conf, centre, around) * sign < 0:
+            pa, pb = conf.GetAtomPosition(ha), conf.GetAtomPosition(hb)
+            conf.SetAtomPosition(ha, pb)
+            conf.SetAtomPosition(hb, pa)
+
+
+#: Bonds kept around the ring systems when a molecule is cut down for conformer search.
+REGION_DEPTH = 2
+
+
+def _ring_systems(mol: Chem.Mol) -> list[set[int]]:
+    """Atom sets of fused or spiro ring systems (rings sharing at least one atom)."""
+    systems: list[set[int]] = []
+    for ring in mol.GetRingInfo().AtomRings():
+        merged = set(ring)
+        for s in [s for s in systems if s & merged]:
+            merged |= s
+            systems.remove(s)
+        systems.append(merged)
+    return systems
+
+
+def ring_region(mol: Chem.Mol, atoms, depth: int = REGION_DEPTH):
+    """The ring systems holding ``atoms`` with ``depth`` bonds of surroundings, as (sub-molecule, index map).
+
+    Ring conformations depend on the ring atoms and their near substituents; distant chains only
+    cost embedding and force-field time.  Kept: the ring systems of ``atoms``, every heavy atom
+    within ``depth`` bonds, whole ring systems and multiple-bond partners of kept atoms, and the
+    hydrogens of kept atoms.  Each single bond to a dropped heavy atom ends in a hydrogen placed
+    where that atom was.  Returns None when nothing would be dropped or the cut fails.
+    """
+    systems = _ring_systems(mol)
+    keep = set()
+    for s in systems:
+        if s & set(atoms):
+            keep |= s
+    frontier = set(keep)
+    for _ in range(depth):
+        frontier = {nb.GetIdx() for a in frontier for nb in mol.GetAtomWithIdx(a).GetNeighbors()
+                    if nb.GetAtomicNum() > 1} - keep
+        keep |= frontier
+    changed = True
+    while changed:
+        changed = False
+        for a in list(keep):
+            atom = mol.GetAtomWithIdx(a)
+            for b in atom.GetBonds():
+                other = b.GetOtherAtomIdx(a)
+                if other in keep:
+                    continue
+                far = mol.GetAtomWithIdx(other)
+                bridging = sum(1 for nb in far.GetNeighbors() if nb.GetIdx() in keep) > 1
+                if b.GetBondType() != Chem.BondType.SINGLE or bridging or far.GetAtomicNum() == 1:
+                    keep.add(other)
+                    changed = True
+            if atom.IsInRing():
+                for s in systems:
+                    if a in s and not s <= keep:
+                        keep |= s
+                        changed = True
+    caps = {nb.GetIdx() for a in keep for nb in mol.GetAtomWithIdx(a).GetNeighbors()} - keep
+    kept = sorted(keep | caps)
+    if len(kept) == mol.GetNumAtoms():
+        return None
+    try:
+        rw = Chem.RWMol(mol)
+        for c in caps:
+            atom = rw.GetAtomWithIdx(c)
+            atom.SetAtomicNum(1)
+            atom.SetFormalCharge(0)
+            atom.SetIsotope(0)
+            atom.SetNumRadicalElectrons(0)
+            atom.SetChiralTag(Chem.ChiralType.CHI_UNSPECIFIED)
+            atom.SetIsAromatic(False)
+            atom.SetNoImplicit(True)
+            atom.SetNumExplicitHs(0)
+        for a in sorted(set(range(mol.GetNumAtoms())) - set(kept), reverse=True):
+            rw.RemoveAtom(a)
+        sub = rw.GetMol()
+        Chem.SanitizeMol(sub)
+    except Exception:       # an unusual cut: the caller embeds the whole molecule
+        return None
+    return sub, {old: new for new, old in enumerate(kept)}
+
+
+def _optimised(m: Chem.Mol) -> list:
+    """MMFF (else UFF) energies after optimising every conformer of ``m``; Nones if neither applies."""
+    try:
+        if AllChem.MMFFHasAllMoleculeParams(m):
+            res = AllChem.MMFFOptimizeMoleculeConfs(m, numThreads=1, maxIters=300)
+        else:
+            res = AllChem.UFFOptimizeMoleculeConfs(m, numThreads=1, maxIters=300)
+        return [e for _, e in res]
+    except Exception:
+        return [None] * m.GetNumConformers()
+
+
+#: Conformers per embedding batch; a second batch follows unless the first found its lowest
+#: minimum twice (ETKDG gives a cyclohexane chair in only about one conformer in five).
+CONFORMER_BATCH = 8
+
+
+def _distinct_conformers(m: Chem.Mol, faces, work, index, n_conformers: int, seed: int,
+                         dedupe_deg: float):
+    """[(conformer id, energy, dihedrals)] of the distinct optimised ETKDG conformers of ``m``.
+
+    Conformers whose measured dihedrals all agree within ``dedupe_deg`` and whose energies agree
+    within 0.05 kcal/mol count once. Batches of CONFORMER_BATCH are embedded until the lowest
+    minimum has been reached twice or ``n_conformers`` have been tried.
+    """
+    params = AllChem.ETKDGv3()
+    params.numThreads = 1
+    params.enforceChirality = True
+    params.timeout = EMBED_TIMEOUT_S     # a strained cage must not hold up the analysis
+    params.maxIterations = 200
+    params.clearConfs = False
+    kept: list[tuple[int, float | None, list[float]]] = []
+    hits: list[int] = []
+    seen = 0
+    for batch in range(max(1, math.ceil(n_conformers / CONFORMER_BATCH))):
+        params.randomSeed = seed + batch
+        AllChem.EmbedMultipleConfs(m, numConfs=min(CONFORMER_BATCH, n_conformers - seen),
+                                   params=params)
+        cids = [c.GetId() for c in m.GetConformers()]
+        if len(cids) == seen:
+            break
+        for cid in cids[seen:]:
+            _match_faces(m.GetConformer(cid), faces)
+        energies = _optimised(m)
+        for cid, e in list(zip(cids, energies))[seen:]:
+            conf = m.GetConformer(cid)
+            dih = [rdMolTransforms.GetDihedralDeg(conf, index[h1], index[c1], index[c2], index[h2])
+                   for h1, h2, c1, c2 in work]
+            same = next((k for k, (_, e2, d2) in enumerate(kept)
+                         if (e is None or e2 is None or abs(e - e2) < 0.05) and
+                         all(abs(_wrap(x - y)) < dedupe_deg for x, y in zip(dih, d2))), None)
+            if same is None:
+                kept.append((cid, e, dih))
+                hits.append(1)
+            else:
+                hits[same] += 1
+        seen = len(cids)
+        if any(e is None for _, e, _ in kept):
+            break
+        lowest = min(range(len(kept)), key=lambda k: kept[k][1])
+        if hits[lowest] >= 2:
+            break
+    return kept
+
+
+def ring_vicinal_couplings(mol: Chem.Mol, pairs, n_conformers: int = 16, seed: int = 20240611,
                            dedupe_deg: float = 10.0) -> dict[tuple[int, int], tuple[float, str]]:
     """3J for vicinal H–C–C–H pairs across non-aromatic ring bonds, {(h1, h2): (j_hz, basis)}.
 
-    Ring faces of every hydrogen follow the molecule's own 3D conformer when it has one (pass the
+    The conformers are those of the ring region (``ring_region``) when that is smaller than the
+    molecule. Ring faces of every hydrogen follow the molecule's own 3D conformer when it has one (pass the
     geometry the configurations were read from, so that the faces match the shift sets), else one
     embedding with ``seed``. ETKDG conformers (fixed ``seed``, faces enforced) are MMFF-optimised; conformers whose measured dihedrals all
     agree within ``dedupe_deg`` and whose energies agree within 0.05 kcal/mol count once; the rest are
@@ -201,39 +376,15 @@ def ring_vicinal_couplings(mol: Chem.Mol, pairs, n_conformers: int = 8, seed: in
         work = _ring_pairs(mol, list(pairs))
         if not work:
             return {}
-        m = _labelled_faces(mol, seed)
-        if m is None:
+        region = ring_region(mol, {c for _, _, c1, c2 in work for c in (c1, c2)})
+        source, index = region if region else (mol, {a: a for a in range(mol.GetNumAtoms())})
+        labelled = _labelled_faces(source, seed)
+        if labelled is None:
             return {}
-        params = AllChem.ETKDGv3()
-        params.randomSeed = int(seed)
-        params.numThreads = 1
-        params.enforceChirality = True
-        params.timeout = EMBED_TIMEOUT_S     # a strained cage must not hold up the analysis
-        params.maxIterations = 200
-        cids = list(AllChem.EmbedMultipleConfs(m, numConfs=int(n_conformers), params=params))
-        if not cids:
+        m, faces = labelled
+        kept = _distinct_conformers(m, faces, work, index, int(n_conformers), int(seed), dedupe_deg)
+        if not kept:
             return {}
-        energies: list[float | None] = [None] * len(cids)
-        try:
-            if AllChem.MMFFHasAllMoleculeParams(m):
-                res = AllChem.MMFFOptimizeMoleculeConfs(m, numThreads=1, maxIters=300)
-            else:
-                res = AllChem.UFFOptimizeMoleculeConfs(m, numThreads=1, maxIters=300)
-            energies = [e for _, e in res]
-        except Exception:
-            pass
-        kept: list[tuple[int, float | None, list[float]]] = []
-        for cid, e in zip(cids, energies):
-            conf = m.GetConformer(cid)
-            dih = [rdMolTransforms.GetDihedralDeg(conf, h1, c1, c2, h2) for h1, h2, c1, c2 in work]
-            dup = False
-            for _, e2, d2 in kept:
-                same_e = e is None or e2 is None or abs(e - e2) < 0.05
-                if same_e and all(abs(_wrap(a - b)) < dedupe_deg for a, b in zip(dih, d2)):
-                    dup = True
-                    break
-            if not dup:
-                kept.append((cid, e, dih))
         if all(e is not None for _, e, _ in kept):
             e0 = min(e for _, e, _ in kept)
             weights = [math.exp(-(e - e0) / _RT_KCAL) for _, e, _ in kept]
@@ -247,7 +398,8 @@ def ring_vicinal_couplings(mol: Chem.Mol, pairs, n_conformers: int = 8, seed: in
             for (cid, _, _), w in zip(kept, weights):
                 conf = m.GetConformer(cid)
                 j = vicinal_j_from_geometry(
-                    m, h1, h2, lambda a, b, c, d, conf=conf: rdMolTransforms.GetDihedralDeg(conf, a, b, c, d))
+                    mol, h1, h2, lambda a, b, c, d, conf=conf: rdMolTransforms.GetDihedralDeg(
+                        conf, index[a], index[b], index[c], index[d]))
                 acc += w * j
             out[(h1, h2)] = (round(acc / total, 2), basis)
         return out

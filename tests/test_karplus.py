@@ -108,3 +108,48 @@ def test_electronegative_substituent_lowers_average():
 def test_not_a_vicinal_pair_gives_none():
     m = _mol("C=CC")
     assert K.rotamer_average_vicinal(m, 3, 5) is None  # sp2 carbon
+
+
+def _h1_couplings(m, res):
+    """Couplings of the proton on the ester/alcohol carbon (the ring CH bearing O) to its ring neighbours."""
+    c1 = next(a for a in m.GetAtoms() if a.GetAtomicNum() == 6 and a.IsInRing() and
+              any(n.GetAtomicNum() == 8 for n in a.GetNeighbors()))
+    h1 = next(n.GetIdx() for n in c1.GetNeighbors() if n.GetAtomicNum() == 1)
+    return sorted(v for (a, b), (v, _) in res.items() if h1 in (a, b))
+
+
+def test_ring_region_drops_a_distant_chain_and_keeps_the_locked_chair():
+    # trans-4-tert-butylcyclohexyl dodecanoate: t-Bu equatorial locks the chair, H1 is axial and couples
+    # ax-ax to two ring protons and ax-eq to two (trans-4-tert-butylcyclohexanol H1: tt, J about 11 and
+    # 4 Hz, recalled from memory; ranges from Pretsch 8-13 and 2-5 Hz)
+    m = _mol("CCCCCCCCCCCC(=O)O[C@H]1CC[C@H](C(C)(C)C)CC1")
+    ring = next(iter(m.GetRingInfo().AtomRings()))
+    sub, index = K.ring_region(m, ring)
+    assert sub.GetNumAtoms() < m.GetNumAtoms() - 20       # the dodecanoyl chain is cut to a formyl
+    assert all(a in index for a in ring)
+    # what is left is the formate of the same ring, stereo kept (compared by RDKit canonical SMILES)
+    assert Chem.MolToSmiles(Chem.RemoveHs(sub)) == \
+        Chem.MolToSmiles(Chem.MolFromSmiles("O=CO[C@H]1CC[C@H](C(C)(C)C)CC1"))
+    js = _h1_couplings(m, K.ring_vicinal_couplings(m, _vicinal_pairs(m)))
+    assert len(js) == 4
+    assert all(2.0 <= j <= 5.0 for j in js[:2]) and all(10.0 <= j <= 13.5 for j in js[2:])
+
+
+def test_ring_region_is_none_when_nothing_lies_outside():
+    m = _mol("C1CCCCC1")
+    assert K.ring_region(m, range(6)) is None
+
+
+@pytest.mark.parametrize("seed", [20240611, 7, 3])
+def test_phenylcyclohexane_h1_is_axial_whatever_the_seed(seed):
+    # phenyl is equatorial (A value about 2.8 kcal/mol), so H1 is axial: tt with J about 12 and 3.5 Hz
+    # (phenylcyclohexane H1, recalled from memory; ranges from Pretsch 8-13 and 2-5 Hz). The sample
+    # must find the chair for any seed, not only twist-boats.
+    from equivclass.stereo import with_conformer
+    m = with_conformer(_mol("c1ccccc1C1CCCCC1"))
+    res = K.ring_vicinal_couplings(m, _vicinal_pairs(m), seed=seed)
+    js = sorted(v for (a, b), (v, _) in res.items()
+                if 6 in {n.GetIdx() for n in m.GetAtomWithIdx(a).GetNeighbors()} |
+                {n.GetIdx() for n in m.GetAtomWithIdx(b).GetNeighbors()})
+    assert len(js) == 4
+    assert all(2.0 <= j <= 5.0 for j in js[:2]) and all(10.0 <= j <= 13.5 for j in js[2:])

@@ -417,16 +417,39 @@ def estimate(mol: Chem.Mol, config: Configuration, partners, decoupled=frozenset
     planar = {frozenset((p.a, p.b)): p for p in config.planar}
     partners = sorted(set(partners) - set(decoupled))
     adj = [tuple(n.GetIdx() for n in atom.GetNeighbors()) for atom in mol.GetAtoms()]
+    kind = [(atom.GetAtomicNum(), atom.GetIsotope()) for atom in mol.GetAtoms()]
     out = []
+    memo: dict = {}
     for a in partners:
         dist = _bfs(adj, a, MAX_BONDS)
         for b in partners:
             if b <= a or b not in dist:
                 continue
-            best = _best_estimate(mol, adj, a, b, dist, planar)
+            key = _path_class_key(adj, kind, a, b, dist[b], planar)
+            if key is None:
+                best = _best_estimate(mol, adj, a, b, dist, planar)
+            elif key in memo:
+                best = memo[key]
+            else:
+                best = memo[key] = _best_estimate(mol, adj, a, b, dist, planar)
             if best is not None and abs(best[0]) >= threshold_hz:
                 out.append(Coupling(a, b, round(best[0], 3), best[1], dist[b]))
     return tuple(out)
+
+
+def _path_class_key(adj, kind, a: int, b: int, n_bonds: int, planar: dict):
+    """A key shared by pairs whose estimate must be equal, or None.
+
+    Two terminal atoms (H, F) reach each other only through their anchor atoms, so every pair with
+    the same anchors, elements and isotopes has the same shortest paths up to the end atoms, and
+    the same rule — except across a double bond with fixed geometry (cis/trans of the end atoms).
+    """
+    if len(adj[a]) != 1 or len(adj[b]) != 1:
+        return None
+    xa, xb = adj[a][0], adj[b][0]
+    if n_bonds == 3 and frozenset((xa, xb)) in planar:
+        return None
+    return xa, xb, kind[a], kind[b]
 
 
 def _best_estimate(mol, adj, a, b, dist, planar):

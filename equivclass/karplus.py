@@ -310,6 +310,8 @@ def _optimised(m: Chem.Mol) -> list:
 #: Conformers per embedding batch; a second batch follows unless the first found its lowest
 #: minimum twice (ETKDG gives a cyclohexane chair in only about one conformer in five).
 CONFORMER_BATCH = 8
+#: Energy scatter (kcal/mol) within which an optimised conformer counts as the same minimum again.
+RECUR_KCAL = 0.5
 
 
 def _distinct_conformers(m: Chem.Mol, faces, work, index, n_conformers: int, seed: int,
@@ -327,7 +329,7 @@ def _distinct_conformers(m: Chem.Mol, faces, work, index, n_conformers: int, see
     params.maxIterations = 200
     params.clearConfs = False
     kept: list[tuple[int, float | None, list[float]]] = []
-    hits: list[int] = []
+    tried: list[tuple[float | None, list[float]]] = []
     seen = 0
     for batch in range(max(1, math.ceil(n_conformers / CONFORMER_BATCH))):
         params.randomSeed = seed + batch
@@ -343,19 +345,18 @@ def _distinct_conformers(m: Chem.Mol, faces, work, index, n_conformers: int, see
             conf = m.GetConformer(cid)
             dih = [rdMolTransforms.GetDihedralDeg(conf, index[h1], index[c1], index[c2], index[h2])
                    for h1, h2, c1, c2 in work]
-            same = next((k for k, (_, e2, d2) in enumerate(kept)
-                         if (e is None or e2 is None or abs(e - e2) < 0.05) and
-                         all(abs(_wrap(x - y)) < dedupe_deg for x, y in zip(dih, d2))), None)
-            if same is None:
+            tried.append((e, dih))
+            if not any((e is None or e2 is None or abs(e - e2) < 0.05) and
+                       all(abs(_wrap(x - y)) < dedupe_deg for x, y in zip(dih, d2)) for _, e2, d2 in kept):
                 kept.append((cid, e, dih))
-                hits.append(1)
-            else:
-                hits[same] += 1
         seen = len(cids)
-        if any(e is None for _, e, _ in kept):
+        if any(e is None for e, _ in tried):
             break
-        lowest = min(range(len(kept)), key=lambda k: kept[k][1])
-        if hits[lowest] >= 2:
+        # the lowest minimum found again (same ring dihedrals, energy within the optimiser's
+        # scatter of RECUR_KCAL) means the sample has settled
+        e0, d0 = min(tried, key=lambda t: t[0])
+        if sum(1 for e, d in tried if e - e0 < RECUR_KCAL and
+               all(abs(_wrap(x - y)) < dedupe_deg for x, y in zip(d, d0))) >= 2:
             break
     return kept
 

@@ -34,7 +34,7 @@ __all__ = ["haasnoot_j", "vicinal_j_from_geometry", "ring_vicinal_couplings", "r
            "vicinal_fragment"]
 
 _RT_KCAL = 0.0019872 * 298.15  # kcal/mol at 298.15 K
-EMBED_TIMEOUT_S = 2            # per embedding attempt; past it the caller keeps its table values
+EMBED_TIMEOUT_S = 1            # per embedding attempt; past it the caller keeps its table values
 _BASIS_RING = "Karplus (Haasnoot-de Leeuw-Altona) on {n} MMFF conformer(s), Boltzmann 298 K"
 _BASIS_CHAIN = "Karplus (Haasnoot-de Leeuw-Altona), equal-weight staggered rotamers"
 
@@ -312,6 +312,9 @@ def _optimised(m: Chem.Mol) -> list:
 CONFORMER_BATCH = 8
 #: Energy scatter (kcal/mol) within which an optimised conformer counts as the same minimum again.
 RECUR_KCAL = 0.5
+#: Regions with more atoms (hydrogens included) than this get one batch only: embedding and
+#: optimising a second batch of a steroid-sized region costs about a second.
+SECOND_BATCH_MAX_ATOMS = 50
 
 
 def _distinct_conformers(m: Chem.Mol, faces, work, index, n_conformers: int, seed: int,
@@ -320,7 +323,8 @@ def _distinct_conformers(m: Chem.Mol, faces, work, index, n_conformers: int, see
 
     Conformers whose measured dihedrals all agree within ``dedupe_deg`` and whose energies agree
     within 0.05 kcal/mol count once. Batches of CONFORMER_BATCH are embedded until the lowest
-    minimum has been reached twice or ``n_conformers`` have been tried.
+    minimum has been reached twice or ``n_conformers`` have been tried (one batch for regions of
+    more than SECOND_BATCH_MAX_ATOMS atoms).
     """
     params = AllChem.ETKDGv3()
     params.numThreads = 1
@@ -350,7 +354,7 @@ def _distinct_conformers(m: Chem.Mol, faces, work, index, n_conformers: int, see
                        all(abs(_wrap(x - y)) < dedupe_deg for x, y in zip(dih, d2)) for _, e2, d2 in kept):
                 kept.append((cid, e, dih))
         seen = len(cids)
-        if any(e is None for e, _ in tried):
+        if any(e is None for e, _ in tried) or m.GetNumAtoms() > SECOND_BATCH_MAX_ATOMS:
             break
         # the lowest minimum found again (same ring dihedrals, energy within the optimiser's
         # scatter of RECUR_KCAL) means the sample has settled

@@ -105,7 +105,7 @@ def _analyze_isomer(st: Structure, mol: Chem.Mol, opts: Options, warnings: tuple
     coupled_sets = [m for m in orb.sets if not by_atom[m[0]].dilute and not all(a in labile for a in m)]
     try:
         splits = dict(zip(coupled_sets, magnetic_split_all(mol, graph, coupled_sets, partners, jmap,
-                                                           opts.chiral_medium)))
+                                                           opts.chiral_medium, orb.generators)))
     except SymmetryTooComplex as exc:
         raise InputError(f"{st.name}: {exc}") from None
     shift_mol = _mol_with_planar_geometry(mol, config)

@@ -45,15 +45,18 @@ def _describe(mol, a, b, n, ja: Coupling | None, jb: Coupling | None) -> str:
     return f"{part(a, ja)} but {part(b, jb)}"
 
 
-def split_all(mol: Chem.Mol, g: Graph, sets, partners, jmap: dict, chiral_medium: bool) -> list[MagneticSplit]:
+def split_all(mol: Chem.Mol, g: Graph, sets, partners, jmap: dict, chiral_medium: bool,
+              known=()) -> list[MagneticSplit]:
     """Magnetic subsets of every chemical set in `sets`, refined until stable.
 
     A subset splits when its members couple differently to any nucleus outside the subset — also to a
     member of another subset of the same chemical set, so para-disubstituted benzenes with identical
     substituents come out AA′A″A‴ (Günther, NMR Spectroscopy, ch. 6), while a lone set with no outside
-    partner (benzene, 1,2-dichloroethane) stays one subset.
+    partner (benzene, 1,2-dichloroethane) stays one subset. ``known``: elements of G already found
+    (atom images), tried before any new search.
     """
     signs = (1,) if chiral_medium else (1, -1)
+    known = list(known)
     subsets = [[list(m)] for m in sets]
     witnesses = [[] for _ in sets]
     changed = True
@@ -67,7 +70,7 @@ def split_all(mol: Chem.Mol, g: Graph, sets, partners, jmap: dict, chiral_medium
                     continue
                 inside = set(sub)
                 outside = [n for n in partners if n not in inside]
-                parts, found = _split_one(mol, g, sub, outside, jmap, signs)
+                parts, found = _split_one(mol, g, sub, outside, jmap, signs, known)
                 new_groups.extend(parts)
                 if len(parts) > 1:
                     changed = True
@@ -77,13 +80,13 @@ def split_all(mol: Chem.Mol, g: Graph, sets, partners, jmap: dict, chiral_medium
             for subs, w in zip(subsets, witnesses)]
 
 
-def _split_one(mol, g, members, outside, jmap, signs):
+def _split_one(mol, g, members, outside, jmap, signs, known):
     parts: list[list[int]] = []
     witnesses = []
     for m in members:
         placed, first_witness = False, None
         for part in parts:
-            w = _first_difference(mol, g, part[0], m, outside, jmap, signs)
+            w = _first_difference(mol, g, part[0], m, outside, jmap, signs, known)
             if w is None:
                 part.append(m)
                 placed = True
@@ -96,8 +99,11 @@ def _split_one(mol, g, members, outside, jmap, signs):
     return parts, witnesses
 
 
-def _first_difference(mol, g, a, b, outside, jmap, signs):
-    """The first partner n for which (a, n) and (b, n) are not symmetry-related (None if none)."""
+def _first_difference(mol, g, a, b, outside, jmap, signs, known):
+    """The first partner n for which (a, n) and (b, n) are not symmetry-related (None if none).
+
+    Elements of G in ``known`` are tried first; new ones found by search are added to it.
+    """
     settled = set()
     for n in outside:
         if n in settled:
@@ -107,11 +113,13 @@ def _first_difference(mol, g, a, b, outside, jmap, signs):
             continue
         if ja is None or jb is None:
             return Witness((a, b), n, (ja, jb), _describe(mol, a, b, n, ja, jb))
-        img = None
-        for sign in signs:
-            img = find_symmetry(g, {a: b, n: n}, sign)
-            if img is not None:
-                break
+        img = next((k for k in known if k[a] == b and k[n] == n), None)
+        if img is None:
+            for sign in signs:
+                img = find_symmetry(g, {a: b, n: n}, sign)
+                if img is not None:
+                    known.append(img)
+                    break
         if img is None:
             return Witness((a, b), n, (ja, jb), _describe(mol, a, b, n, ja, jb))
         settled.update(x for x in outside if img[x] == x)

@@ -2,7 +2,8 @@
 
 J(a, b) is looked up in `data/couplings.csv` by the class of the shortest bond path between a and b
 (count, bond types, cis/trans across a double bond, aromatic ortho/meta/para and ring type, geminal or
-vicinal, the kind of phosphorus). Where several shortest paths exist the largest |J| is used, so that
+vicinal, the kind of phosphorus). Alkene H–H couplings with heteroatom substituents follow the
+substituents' electronegativities instead (`data/alkene_couplings.csv`; rule names gain "_hetero"). Where several shortest paths exist the largest |J| is used, so that
 symmetry-related pairs always get the same estimate. Couplings below the threshold, beyond five bonds,
 to exchange-decoupled protons, or to dilute isotopes at natural abundance are zero.
 """
@@ -452,6 +453,51 @@ def _path_class_key(adj, kind, a: int, b: int, n_bonds: int, planar: dict):
     return xa, xb, kind[a], kind[b]
 
 
+@functools.lru_cache(maxsize=1)
+def _huggins_chi() -> dict[str, float]:
+    """Huggins electronegativities by element symbol (data/karplus.csv)."""
+    return {r["key"]: float(r["value"]) for r in table_rows("karplus.csv") if r["kind"] == "chi"}
+
+
+@functools.lru_cache(maxsize=1)
+def _alkene_lines() -> dict[str, tuple[float, float]]:
+    """{rule: (J of ethylene, slope per unit of electronegativity)} from data/alkene_couplings.csv."""
+    chi = _huggins_chi()
+    out = {}
+    for r in table_rows("alkene_couplings.csv"):
+        j0, jf = float(r["ethylene_hz"]), float(r["vinyl_fluoride_hz"])
+        out[r["rule"]] = (j0, (j0 - jf) / (chi["F"] - chi["H"]))
+    return out
+
+
+_HETERO = frozenset((7, 8, 9, 16, 17, 35, 53))
+
+
+def _alkene_value(mol: Chem.Mol, path, rule: str) -> float | None:
+    """J of an alkene H–H rule from the substituents' electronegativities (data/alkene_couplings.csv),
+    or None when no substituent of the two alkene carbons is a heteroatom."""
+    line = _alkene_lines().get(rule)
+    if line is None:
+        return None
+    if rule == "HH2_sp2":
+        c = mol.GetAtomWithIdx(path[1])
+        partner = next((b.GetOtherAtom(c) for b in c.GetBonds()
+                        if b.GetBondType() == Chem.BondType.DOUBLE), None)
+        if partner is None or partner.GetAtomicNum() != 6:
+            return None
+        carbons = (c, partner)
+    else:
+        carbons = (mol.GetAtomWithIdx(path[1]), mol.GetAtomWithIdx(path[2]))
+    skip = set(path) | {c.GetIdx() for c in carbons}
+    subs = [n for c in carbons for n in c.GetNeighbors()
+            if n.GetIdx() not in skip and n.GetAtomicNum() > 1]
+    if not any(n.GetAtomicNum() in _HETERO for n in subs):
+        return None
+    chi = _huggins_chi()
+    h = chi["H"]
+    return line[0] - line[1] * sum(chi.get(n.GetSymbol(), h) - h for n in subs)
+
+
 def _best_estimate(mol, adj, a, b, dist, planar):
     """(J, rule) over all shortest paths a…b: the largest |J|, ties broken by rule name, so that
     symmetry-related pairs get one estimate; None when no rule applies."""
@@ -461,7 +507,12 @@ def _best_estimate(mol, adj, a, b, dist, planar):
         rule = classify(mol, path, planar)
         if rule is None or rule not in table:
             continue
-        j = table[rule][0] * _gamma_scale(mol, a, b)
+        value = table[rule][0]
+        if rule in ("HH3_alkene_cis", "HH3_alkene_trans", "HH2_sp2"):
+            alkene = _alkene_value(mol, path, rule)
+            if alkene is not None:
+                value, rule = alkene, rule + "_hetero"
+        j = value * _gamma_scale(mol, a, b)
         if best is None or abs(j) > abs(best[0]) or (abs(j) == abs(best[0]) and rule < best[1]):
             best = (j, rule)
     return best

@@ -9,6 +9,7 @@ import dataclasses
 import sys
 
 from rdkit import Chem
+from .atoms import atom_list, bond_list
 
 from . import shifts as shift_rules
 from .couplings import Coupling, carbon_partner_couplings, estimate as estimate_couplings, labile_protons
@@ -92,7 +93,7 @@ def _analyze_isomer(st: Structure, mol: Chem.Mol, opts: Options, warnings: tuple
     couplings = _symmetrized(couplings, orb.generators)
     jmap = {frozenset((c.a, c.b)): c for c in couplings}
     carbons = [a for a, n in by_atom.items() if n.dilute and n.isotope.symbol == "13C"]
-    missing = sorted({a.GetSymbol() for a in mol.GetAtoms() if a.GetAtomicNum() in (9, 15)} -
+    missing = sorted({a.GetSymbol() for a in atom_list(mol) if a.GetAtomicNum() in (9, 15)} -
                      {by_atom[a].isotope.element for a in by_atom})
     if carbons and missing:
         warnings.append(f"13C patterns leave out couplings to {', '.join(missing)}: observe "
@@ -175,11 +176,11 @@ KARPLUS_MAX_RING = 8           # larger rings are flexible: their vicinal coupli
 def _has_ring_ch2_ch(mol: Chem.Mol) -> bool:
     """True when some bond of a ring of at most KARPLUS_MAX_RING atoms joins two sp3 carbons that both
     carry hydrogen, in a molecule small enough to embed quickly."""
-    if sum(1 for a in mol.GetAtoms() if a.GetAtomicNum() > 1) > KARPLUS_MAX_HEAVY_ATOMS or \
-            any(is_metal(a) or a.GetDegree() > 4 for a in mol.GetAtoms()):
+    if sum(1 for a in atom_list(mol) if a.GetAtomicNum() > 1) > KARPLUS_MAX_HEAVY_ATOMS or \
+            any(is_metal(a) or a.GetDegree() > 4 for a in atom_list(mol)):
         return False
     ring_info = mol.GetRingInfo()
-    for b in mol.GetBonds():
+    for b in bond_list(mol):
         if not b.IsInRing() or b.GetIsAromatic():
             continue
         if not any(len(r) <= KARPLUS_MAX_RING for r in ring_info.BondRings() if b.GetIdx() in r):
@@ -193,7 +194,7 @@ def _has_ring_ch2_ch(mol: Chem.Mol) -> bool:
 
 def _with_ring_karplus(mol, couplings, threshold_hz):
     """Replace table values of vicinal H–H across ring bonds by Karplus values on the same geometry."""
-    ring_bonds = {b.GetIdx() for b in mol.GetBonds() if any(
+    ring_bonds = {b.GetIdx() for b in bond_list(mol) if any(
         len(r) <= KARPLUS_MAX_RING for r in mol.GetRingInfo().BondRings() if b.GetIdx() in r)}
     pairs = [(c.a, c.b) for c in couplings if c.n_bonds == 3 and c.basis == "HH3_sp3" and
              _vicinal_bond(mol, c.a, c.b) in ring_bonds]
@@ -347,7 +348,7 @@ def _user_shift_map(st, sets, opts, by_atom) -> dict:
 
 
 def _hypervalent_warning(mol: Chem.Mol, warnings: list) -> None:
-    hyper = [a.GetIdx() for a in mol.GetAtoms() if a.GetDegree() >= 5]
+    hyper = [a.GetIdx() for a in atom_list(mol) if a.GetDegree() >= 5]
     if hyper:
         warnings.append("centres with five or more neighbours (atoms " + ",".join(map(str, hyper)) +
                         ") treated as fully symmetric")

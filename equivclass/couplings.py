@@ -13,6 +13,7 @@ import functools
 from dataclasses import dataclass
 
 from rdkit import Chem
+from .atoms import atom_list
 
 from . import nucdata
 from .tables import table_rows
@@ -380,7 +381,7 @@ def carbon_partner_couplings(mol: Chem.Mol, config: Configuration, carbons, part
     """Couplings of natural-abundance 13C to abundant heteronuclei (19F, 31P, 2H): the splittings a
     1H-decoupled 13C spectrum shows. They never join the coupling network of the other nuclei."""
     planar = {frozenset((p.a, p.b)): p for p in config.planar}
-    adj = [tuple(n.GetIdx() for n in atom.GetNeighbors()) for atom in mol.GetAtoms()]
+    adj = [tuple(n.GetIdx() for n in atom.GetNeighbors()) for atom in atom_list(mol)]
     others = [b for b in partners if mol.GetAtomWithIdx(b).GetAtomicNum() in (9, 15) or
               (mol.GetAtomWithIdx(b).GetAtomicNum() == 1 and mol.GetAtomWithIdx(b).GetIsotope() > 1)]
     out = []
@@ -399,7 +400,7 @@ def labile_protons(mol: Chem.Mol) -> frozenset[int]:
     """Protons on O, S and non-amide N: exchange-decoupled by default (amide and sulfonamide N–H differ:
     amide N–H couples, common practice)."""
     out = set()
-    for atom in mol.GetAtoms():
+    for atom in atom_list(mol):
         if atom.GetAtomicNum() != 1 or atom.GetDegree() != 1:
             continue
         x = atom.GetNeighbors()[0]
@@ -417,8 +418,8 @@ def estimate(mol: Chem.Mol, config: Configuration, partners, decoupled=frozenset
     """Non-zero couplings among `partners` (atom indices of abundant or enriched active nuclei)."""
     planar = {frozenset((p.a, p.b)): p for p in config.planar}
     partners = sorted(set(partners) - set(decoupled))
-    adj = [tuple(n.GetIdx() for n in atom.GetNeighbors()) for atom in mol.GetAtoms()]
-    kind = [(atom.GetAtomicNum(), atom.GetIsotope()) for atom in mol.GetAtoms()]
+    adj = [tuple(n.GetIdx() for n in atom.GetNeighbors()) for atom in atom_list(mol)]
+    kind = [(atom.GetAtomicNum(), atom.GetIsotope()) for atom in atom_list(mol)]
     out = []
     memo: dict = {}
     for a in partners:

@@ -10,6 +10,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 from rdkit import Chem
+from .atoms import atom_list
 
 from . import nucdata
 from .errors import InputError
@@ -28,7 +29,7 @@ def active_nuclei(mol: Chem.Mol, requested) -> tuple[Nucleus, ...]:
     for iso in requested:
         by_element.setdefault(iso.atomic_number, []).append(iso)
     out = []
-    for atom in mol.GetAtoms():
+    for atom in atom_list(mol):
         z, mass = atom.GetAtomicNum(), atom.GetIsotope()
         if mass:
             name = f"{mass}{atom.GetSymbol()}"

@@ -12,6 +12,7 @@ import itertools
 from dataclasses import dataclass
 
 from rdkit import Chem
+from .atoms import atom_list, bond_list
 
 _MAIN_GROUP_TETRAHEDRAL = {5, 6, 7, 13, 14, 15, 16, 32, 33, 34, 50, 51, 52}
 _LONE_PAIR_PYRAMIDAL = {15, 16, 33, 34, 51, 52}  # P, S, As, Se, Sb, Te invert slowly (common practice)
@@ -116,7 +117,7 @@ def configuration(mol: Chem.Mol, amide_rotation_fast: bool = False) -> Configura
     """Read every fixed configuration of an explicit-H molecule."""
     ranks = list(Chem.CanonicalRankAtoms(mol, breakTies=False, includeChirality=False))
     ring_info = mol.GetRingInfo()
-    centre_atoms = [a for a in mol.GetAtoms() if _is_tetrahedral_centre(a)]
+    centre_atoms = [a for a in atom_list(mol) if _is_tetrahedral_centre(a)]
     coords = None
     if mol.GetNumConformers() and mol.GetConformer().Is3D():
         coords = mol.GetConformer().GetPositions()
@@ -132,7 +133,7 @@ def configuration(mol: Chem.Mol, amide_rotation_fast: bool = False) -> Configura
             parity = -1 if atom.GetChiralTag() == Chem.ChiralType.CHI_TETRAHEDRAL_CW else 1
         centres.append(Centre(idx, nbrs, parity))
     planar = []
-    for bond in mol.GetBonds():
+    for bond in bond_list(mol):
         a, b = bond.GetBeginAtomIdx(), bond.GetEndAtomIdx()
         kind = None
         if bond.GetBondType() == Chem.BondType.DOUBLE and not bond.GetIsAromatic():
@@ -176,7 +177,7 @@ def _embedded_coordinates(mol: Chem.Mol):
     are read from real geometry rather than chosen freely.
     """
     from rdkit.Chem import AllChem
-    if any(a.GetDegree() > 4 or is_metal(a) for a in mol.GetAtoms()):
+    if any(a.GetDegree() > 4 or is_metal(a) for a in atom_list(mol)):
         return None   # force-field geometry of metal and hypervalent centres is not meaningful here
     params = AllChem.ETKDGv3()
     params.randomSeed = 0xEC

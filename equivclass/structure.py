@@ -12,6 +12,7 @@ import sys
 from dataclasses import dataclass
 
 from rdkit import Chem, RDLogger
+from .atoms import atom_list, bond_list
 
 from .errors import InputError
 
@@ -106,7 +107,7 @@ def _sanitize(mol: Chem.Mol, name: str) -> Chem.Mol:
         raise InputError(f"{name}: structure is not chemically valid: {_one_line(exc)}") from None
     Chem.AssignStereochemistry(mol, cleanIt=True, force=True)
     table = Chem.GetPeriodicTable()
-    for atom in mol.GetAtoms():
+    for atom in atom_list(mol):
         if atom.GetAtomicNum() == 0:
             raise InputError(f"{name}: dummy or query atom (*) at atom {atom.GetIdx()}; give a real structure")
         mass = atom.GetIsotope()
@@ -154,7 +155,7 @@ def from_mol(mol: Chem.Mol, name: str = "input", max_heavy_atoms: int = DEFAULT_
     if mol is None:
         raise InputError(f"{name}: no molecule")
     mol = Chem.Mol(mol)
-    if any(a.GetAtomicNum() == 1 for a in mol.GetAtoms()):
+    if any(a.GetAtomicNum() == 1 for a in atom_list(mol)):
         try:
             mol = Chem.RemoveHs(mol, sanitize=False, implicitOnly=False)
         except Exception as exc:
@@ -169,7 +170,7 @@ def from_mol(mol: Chem.Mol, name: str = "input", max_heavy_atoms: int = DEFAULT_
     if not input_text:
         input_text = Chem.MolToSmiles(mol)
     notes = []
-    radicals = [a.GetIdx() for a in mol.GetAtoms() if a.GetNumRadicalElectrons()]
+    radicals = [a.GetIdx() for a in atom_list(mol) if a.GetNumRadicalElectrons()]
     if radicals:
         notes.append("unpaired electrons at atom(s) " + ",".join(map(str, radicals)) +
                      ": analysed as a closed shell; a radical's own spectrum is broadened or shifted "
@@ -182,7 +183,7 @@ def from_mol(mol: Chem.Mol, name: str = "input", max_heavy_atoms: int = DEFAULT_
 
 def _stereo_bonds_to_cis_trans(mol: Chem.Mol) -> None:
     """Express double-bond geometry as CIS/TRANS relative to the bond's stereo atoms (not CIP E/Z)."""
-    for bond in mol.GetBonds():
+    for bond in bond_list(mol):
         st = bond.GetStereo()
         if st in (Chem.BondStereo.STEREOE, Chem.BondStereo.STEREOZ):
             atoms = list(bond.GetStereoAtoms())

@@ -14,6 +14,7 @@ from collections import deque
 from dataclasses import dataclass
 
 from rdkit import Chem
+from .atoms import atom_list, bond_list
 
 from .errors import InputError
 from .stereo import Configuration
@@ -52,7 +53,7 @@ def _resonance_labels(mol: Chem.Mol):
     terminal chalcogens (C(=O)O−, S(=O)2O−), are made alike.
     """
     free_charge, conj_bonds = set(), set()
-    for atom in mol.GetAtoms():
+    for atom in atom_list(mol):
         groups = {}
         for b in atom.GetBonds():
             o = b.GetOtherAtom(atom)
@@ -77,13 +78,13 @@ def build_graph(mol: Chem.Mol, config: Configuration, budget: int = DEFAULT_STEP
     n = mol.GetNumAtoms()
     free_charge, conj_bonds = _resonance_labels(mol)
     labels = []
-    for atom in mol.GetAtoms():
+    for atom in atom_list(mol):
         delocalised = atom.GetIdx() in free_charge or atom.GetIsAromatic()
         charge = 0 if delocalised else atom.GetFormalCharge()
         labels.append((atom.GetAtomicNum(), atom.GetIsotope(), charge, atom.GetDegree()))
     nbrs = [[] for _ in range(n)]
     bond_label = {}
-    for b in mol.GetBonds():
+    for b in bond_list(mol):
         i, j = b.GetBeginAtomIdx(), b.GetEndAtomIdx()
         nbrs[i].append(j)
         nbrs[j].append(i)
@@ -103,7 +104,7 @@ def build_graph(mol: Chem.Mol, config: Configuration, budget: int = DEFAULT_STEP
         for atom in (p.a, p.b, *p.subs_a, *p.subs_b):
             planar_at_lists[atom].append(key)
     return Graph(n=n, nbrs=tuple(tuple(x) for x in nbrs), bond_label=bond_label, colour=tuple(colour),
-                 heavy=tuple(a.GetAtomicNum() > 1 for a in mol.GetAtoms()), centres=centres,
+                 heavy=tuple(a.GetAtomicNum() > 1 for a in atom_list(mol)), centres=centres,
                  centres_at=centres_at, planar=planar,
                  planar_at=tuple(tuple(x) for x in planar_at_lists),
                  has_centres=bool(centres), budget=budget)

@@ -476,7 +476,8 @@ _HETERO = frozenset((7, 8, 9, 16, 17, 35, 53))
 
 def _alkene_value(mol: Chem.Mol, path, rule: str) -> float | None:
     """J of an alkene H–H rule from the substituents' electronegativities (data/alkene_couplings.csv),
-    or None when no substituent of the two alkene carbons is a heteroatom."""
+    or None when no substituent of the two alkene carbons is a heteroatom. The sum of the
+    electronegativity differences is capped at that of one fluorine, the calibration's end point."""
     line = _alkene_lines().get(rule)
     if line is None:
         return None
@@ -496,7 +497,9 @@ def _alkene_value(mol: Chem.Mol, path, rule: str) -> float | None:
         return None
     chi = _huggins_chi()
     h = chi["H"]
-    return line[0] - line[1] * sum(chi.get(n.GetSymbol(), h) - h for n in subs)
+    # the line is calibrated between ethylene and vinyl fluoride: no extrapolation beyond one fluorine
+    shift = min(sum(chi.get(n.GetSymbol(), h) - h for n in subs), chi["F"] - h)
+    return line[0] - line[1] * shift
 
 
 def _best_estimate(mol, adj, a, b, dist, planar):

@@ -174,3 +174,15 @@ def test_trans_dichloroethylene_vicinal():
     r = equivclass.analyze("Cl/C=C/Cl")
     j = [c.j_hz for c in r.couplings if c.n_bonds == 3]
     assert len(j) == 1 and abs(j[0] - 12.1) <= 1.0
+
+
+def test_dichloroethylenes_and_difluoroethylene_stay_within_calibration():
+    # cis-1,2-dichloroethylene 3J 5.3 Hz (recalled from memory); 1,1-difluoroethylene |2J(H,H)| 4.7 Hz
+    # (Harris 1983, AA'XX' example, recalled from memory): two halogens must not push J past vinyl fluoride
+    r = equivclass.analyze("Cl/C=C\\Cl")
+    j = [c.j_hz for c in r.couplings if c.n_bonds == 3]
+    assert len(j) == 1 and abs(j[0] - 5.3) <= 1.0
+    r = equivclass.analyze("C=C(F)F")
+    gem = [c.j_hz for c in r.couplings if c.n_bonds == 2 and
+           all(r.mol.GetAtomWithIdx(a).GetAtomicNum() == 1 for a in c.atoms)]
+    assert len(gem) == 1 and abs(abs(gem[0]) - 4.7) <= 2.0

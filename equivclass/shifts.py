@@ -603,7 +603,6 @@ def _h_aldehyde(mol, c) -> ShiftEstimate:
 
 def _h_labile(mol, x) -> ShiftEstimate:
     z = x.GetAtomicNum()
-    xi = x.GetIdx()
     heavy = [n for n in x.GetNeighbors() if not _is_h(n)]
     if z == 8:
         if not heavy:
@@ -733,7 +732,6 @@ def _estimate_1h(mol, h) -> ShiftEstimate:
         return _aromatic(mol, x.GetIdx(), "1H")
     if _is_sp3_carbon(x):
         return _h_sp3(mol, x)
-    xi = x.GetIdx()
     doubles = [b for b in x.GetBonds() if b.GetBondType() == Chem.BondType.DOUBLE]
     triples = [b for b in x.GetBonds() if b.GetBondType() == Chem.BondType.TRIPLE]
     if triples:
@@ -897,7 +895,6 @@ def _estimate_13c(mol, c) -> ShiftEstimate:
         if sum(1 for n in c.GetNeighbors() if n.GetAtomicNum() == 9) == 3:
             return ShiftEstimate(_C_BASE["CF3"], "CF3 carbon base value")
         return _c_sp3(mol, c)
-    ci = c.GetIdx()
     doubles = [b for b in c.GetBonds() if b.GetBondType() == Chem.BondType.DOUBLE]
     triples = [b for b in c.GetBonds() if b.GetBondType() == Chem.BondType.TRIPLE]
     if triples:
@@ -942,7 +939,6 @@ def _estimate_19f(mol, f) -> ShiftEstimate:
         return _f_base("fluoride", "19F")
     x = nbrs[0]
     z = x.GetAtomicNum()
-    xi = x.GetIdx()
     if z == 15:
         nf = sum(1 for n in x.GetNeighbors() if n.GetAtomicNum() == 9)
         return _f_base("PF6" if nf == 6 else "P-F", "P-F")
@@ -1020,7 +1016,6 @@ def _p_base(key: str) -> ShiftEstimate:
 
 
 def _estimate_31p(mol, p) -> ShiftEstimate:
-    pi = p.GetIdx()
     dbl_o = dbl_s = 0
     single: list = []
     for b in p.GetBonds():

@@ -177,10 +177,10 @@ def _labelled_faces(mol: Chem.Mol, seed: int):
     CH2 groups whose two hydrogens are told apart by face, as [(hydrogen a, hydrogen b, neighbours,
     reference signed volume)]; None if no geometry can be made.
 
-    Which CH2 hydrogen lies on which face must match the reference. Enforcing that as a chiral
-    constraint during embedding makes ETKDG return mostly twist-boats; instead those CH2 carbons are
-    left free, and in each new conformer the two hydrogens trade places where their face is wrong
-    (the same geometry, relabelled). Other ring centres keep their tags as constraints."""
+    Which CH2 hydrogen lies on which face must match the reference. Chiral constraints on CH2
+    carbons make ETKDG return mostly twist-boats (BENCHMARKS.md), so those carbons are left free
+    and in each new conformer the two hydrogens trade places where their face is wrong (the same
+    geometry, relabelled). Other ring centres keep their tags as constraints."""
     m = Chem.Mol(mol)
     if not (m.GetNumConformers() and m.GetConformer().Is3D()):
         m.RemoveAllConformers()
@@ -198,7 +198,7 @@ def _labelled_faces(mol: Chem.Mol, seed: int):
             a.SetChiralTag(keep[a.GetIdx()])
             continue
         hs = [n for n in a.GetNeighbors() if n.GetAtomicNum() == 1]
-        if len(hs) == 2 and hs[0].GetIsotope() == hs[1].GetIsotope():
+        if len(hs) == 2:      # CH2, and CHD too: the two swap places as well as any H pair
             around = tuple(n.GetIdx() for n in a.GetNeighbors())
             faces.append((hs[0].GetIdx(), hs[1].GetIdx(), a.GetIdx(), around,
                           _signed_volume(ref, a.GetIdx(), around)))
@@ -237,8 +237,9 @@ def ring_region(mol: Chem.Mol, atoms, depth: int = REGION_DEPTH):
 
     Ring conformations depend on the ring atoms and their near substituents; distant chains only
     cost embedding and force-field time.  Kept: the ring systems of ``atoms``, every heavy atom
-    within ``depth`` bonds, whole ring systems and multiple-bond partners of kept atoms, and the
-    hydrogens of kept atoms.  Each single bond to a dropped heavy atom ends in a hydrogen placed
+    within ``depth`` bonds, whole ring systems, multiple-bond partners, charged partners and all
+    neighbours of charged atoms and of C=C / C=N ends among the kept atoms, and the hydrogens of
+    kept atoms.  Each single bond to a dropped heavy atom ends in a hydrogen placed
     where that atom was.  Returns None when nothing would be dropped or the cut fails.
     """
     systems = _ring_systems(mol)
@@ -262,7 +263,13 @@ def ring_region(mol: Chem.Mol, atoms, depth: int = REGION_DEPTH):
                     continue
                 far = mol.GetAtomWithIdx(other)
                 bridging = sum(1 for nb in far.GetNeighbors() if nb.GetIdx() in keep) > 1
-                if b.GetBondType() != Chem.BondType.SINGLE or bridging or far.GetAtomicNum() == 1:
+                # multiple-bond partners, charged partners (the cut keeps the net charge) and the
+                # substituents of a kept double bond (its E/Z) stay
+                double_end = any(x.GetBondType() == Chem.BondType.DOUBLE and not x.GetIsAromatic()
+                                 and x.GetOtherAtom(atom).GetAtomicNum() in (6, 7)
+                                 for x in atom.GetBonds())
+                if b.GetBondType() != Chem.BondType.SINGLE or bridging or far.GetAtomicNum() == 1 \
+                        or far.GetFormalCharge() != 0 or atom.GetFormalCharge() != 0 or double_end:
                     keep.add(other)
                     changed = True
             if atom.IsInRing():
@@ -295,16 +302,20 @@ def ring_region(mol: Chem.Mol, atoms, depth: int = REGION_DEPTH):
     return sub, {old: new for new, old in enumerate(kept)}
 
 
-def _optimised(m: Chem.Mol) -> list:
-    """MMFF (else UFF) energies after optimising every conformer of ``m``; Nones if neither applies."""
+def _optimised(m: Chem.Mol, cids) -> list:
+    """MMFF (else UFF) energies after optimising the conformers ``cids`` of ``m``; Nones if neither
+    force field applies."""
     try:
-        if AllChem.MMFFHasAllMoleculeParams(m):
-            res = AllChem.MMFFOptimizeMoleculeConfs(m, numThreads=1, maxIters=300)
-        else:
-            res = AllChem.UFFOptimizeMoleculeConfs(m, numThreads=1, maxIters=300)
-        return [e for _, e in res]
+        props = AllChem.MMFFGetMoleculeProperties(m)
+        out = []
+        for cid in cids:
+            ff = AllChem.MMFFGetMoleculeForceField(m, props, confId=cid) if props is not None \
+                else AllChem.UFFGetMoleculeForceField(m, confId=cid)
+            ff.Minimize(maxIts=300)
+            out.append(ff.CalcEnergy())
+        return out
     except Exception:
-        return [None] * m.GetNumConformers()
+        return [None] * len(cids)
 
 
 #: Conformers per embedding batch; a second batch follows unless the first found its lowest
@@ -344,8 +355,7 @@ def _distinct_conformers(m: Chem.Mol, faces, work, index, n_conformers: int, see
             break
         for cid in cids[seen:]:
             _match_faces(m.GetConformer(cid), faces)
-        energies = _optimised(m)
-        for cid, e in list(zip(cids, energies))[seen:]:
+        for cid, e in zip(cids[seen:], _optimised(m, cids[seen:])):
             conf = m.GetConformer(cid)
             dih = [rdMolTransforms.GetDihedralDeg(conf, index[h1], index[c1], index[c2], index[h2])
                    for h1, h2, c1, c2 in work]

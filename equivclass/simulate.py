@@ -58,7 +58,7 @@ DROP_RELATIVE = 1e-9
 #: Couplings and shift differences below this (Hz) count as zero / equal.
 ZERO_HZ = 1e-9
 #: Fz blocks of at least this many states are diagonalised in single
-#: precision, their eigenvalues then refined in double precision (below).
+#: precision (see _eigh_single for the accuracy this costs).
 SINGLE_PRECISION_FROM = 1000
 
 
@@ -238,7 +238,7 @@ def simulate(system: SpinSystem, observe: str, decouple: tuple = (),
         amps.append(a)
     f = np.concatenate(freqs)
     a = np.concatenate(amps) / unit
-    f, a = _merge(f, a)
+    f, a = _merge_halves(f, a)
     if a.size:
         strong = a >= DROP_RELATIVE * a.max()
         f, a = f[strong], a[strong]
@@ -423,11 +423,10 @@ def _exact_lines(nu, jm, spins, iso, observe, record):
              if same[k, l] and abs(jm[k, l]) > ZERO_HZ]
     ii = spins * (spins + 1)
 
-    def diagonalise(members):
+    def block(members, dtype):
         mb = m[members]
         nb = members.size
-        # large blocks go to the single-precision solver (see _eigh_single)
-        h = np.zeros((nb, nb), dtype=np.float64 if nb < SINGLE_PRECISION_FROM else np.float32)
+        h = np.zeros((nb, nb), dtype=dtype)
         h[np.arange(nb), np.arange(nb)] = mb @ nu + 0.5 * np.einsum("ij,ij->i", mb @ jz, mb)
         for k, l in pairs:
             # I+_k I-_l: raise k (digit_k > 0), lower l (digit_l < d_l - 1)
@@ -441,9 +440,12 @@ def _exact_lines(nu, jm, spins, iso, observe, record):
             r, c = pos[src - stride[k] + stride[l]], pos[src]
             h[r, c] += val
             h[c, r] += val
-        if nb < SINGLE_PRECISION_FROM:
-            return np.linalg.eigh(h)
-        return _eigh_single(h)
+        return h
+
+    def diagonalise(members):
+        if members.size < SINGLE_PRECISION_FROM:
+            return np.linalg.eigh(block(members, np.float64))
+        return _eigh_single(lambda: block(members, np.float32))
 
     def transitions(job):
         bkey, (wgt, rdx, spins_here) = job
@@ -508,26 +510,27 @@ class _Solved:
         return self._futures[key].result()
 
 
-def _eigh_single(h: np.ndarray):
+def _eigh_single(build):
     """Eigenpairs of a large symmetric block in single precision (LAPACK ssyevd).
 
-    Divide and conquer in single precision takes about half the time of
-    double precision.  Eigenvalues then carry absolute errors of about
-    eps_single * ||H|| (Golub & Van Loan, *Matrix Computations*, sect. 8.1),
-    i.e. below a millihertz for 14 protons at 400 MHz, far below any line
-    width; intensities carry single-precision relative errors.  The
-    eigenvalues are returned in double precision so that differences of them
-    lose nothing more.  ``h`` (float32, C order) is overwritten.
+    ``build()`` returns the block (float32, C order); it is overwritten by the solver and built
+    again only if the solver fails. Divide and conquer in single precision takes about 60 % of the
+    double-precision time. Eigenvalues carry absolute errors of order eps_single * ||H|| (Golub &
+    Van Loan, *Matrix Computations*, sect. 8.1): a few millihertz for 13-14 protons spread over
+    8 ppm at 400 MHz, more for wide 19F ranges — below any line width. Intensities of
+    near-degenerate transitions mix, so only their sums are reliable; a broadened spectrum differs
+    from the double-precision one by about 1e-5 of its tallest peak (BENCHMARKS.md). The
+    eigenvalues are returned in double precision so that their differences lose nothing more.
     """
+    h = build()
     solver = _single_solver()
     if solver is not None:
-        backup = h.copy()
         w = np.empty(h.shape[0], dtype=np.float32)
         # a column-major call on a symmetric matrix; the eigenvectors come back
         # in the columns of the column-major array, i.e. the rows of ``h``
         if solver(h, w) == 0:
             return w.astype(np.float64), h.T
-        h = backup
+        h = build()
     w, v = sla.eigh(h, driver="evd", overwrite_a=True, check_finite=False)
     return w.astype(np.float64), v
 
@@ -553,7 +556,7 @@ def _single_solver():
             libs.append(ctypes.CDLL(path))
         except OSError:
             continue
-    # the 32-bit-integer build (scipy's) first: it was the faster one here
+    # the 32-bit-integer build (scipy's) first: the faster of the two on the benchmark machine
     for name, width in (("scipy_LAPACKE_ssyevd", ctypes.c_int32),
                         ("scipy_LAPACKE_ssyevd64_", ctypes.c_int64)):
         fn = next((getattr(lib, name) for lib in libs if hasattr(lib, name)), None)
@@ -628,7 +631,7 @@ class _InlinePool:
         done = Future()
         try:
             done.set_result(fn(*args))
-        except BaseException as exc:      # re-raised by .result(), as a pool would
+        except Exception as exc:          # re-raised by .result(), as a pool would
             done.set_exception(exc)
         return done
 
@@ -657,6 +660,35 @@ def _parallel_linear_algebra(tasks: int):
         finally:
             for count, put in saved:
                 put(count)
+
+
+#: Line lists longer than this are merged in two halves on two threads.
+PARALLEL_MERGE_FROM = 2_000_000
+
+
+def _merge_halves(f: np.ndarray, a: np.ndarray, tol: float = MERGE_HZ):
+    """``_merge`` of a long list in two frequency halves on two threads (same result).
+
+    A group of close lines cut by the pivot ends up as the last group of the lower half and the
+    first of the upper; those two are joined afterwards (weighted position of all their lines).
+    """
+    if f.size < PARALLEL_MERGE_FROM or (os.cpu_count() or 1) < 2:
+        return _merge(f, a, tol)
+    pivot = float(np.median(f[:: max(1, f.size // 4096)]))
+    low = f < pivot
+    parts = [(f[low], a[low]), (f[~low], a[~low])]
+    if not parts[0][0].size or not parts[1][0].size:
+        return _merge(f, a, tol)
+    gap = float(parts[1][0].min() - parts[0][0].max())    # between the raw lines at the cut
+    with ThreadPoolExecutor(max_workers=2) as pool:
+        (f1, a1), (f2, a2) = pool.map(lambda p: _merge(p[0], p[1], tol), parts)
+    if gap <= tol:
+        total = a1[-1] + a2[0]
+        pos = (f1[-1] * a1[-1] + f2[0] * a2[0]) / total if total > 0 else f1[-1]
+        f1, a1 = f1.copy(), a1.copy()
+        f1[-1], a1[-1] = pos, total
+        f2, a2 = f2[1:], a2[1:]
+    return np.concatenate((f1, f2)), np.concatenate((a1, a2))
 
 
 def _merge(f: np.ndarray, a: np.ndarray, tol: float = MERGE_HZ):

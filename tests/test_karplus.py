@@ -153,3 +153,15 @@ def test_phenylcyclohexane_h1_is_axial_whatever_the_seed(seed):
                 {n.GetIdx() for n in m.GetAtomWithIdx(b).GetNeighbors()})
     assert len(js) == 4
     assert all(2.0 <= j <= 5.0 for j in js[:2]) and all(10.0 <= j <= 13.5 for j in js[2:])
+
+
+def test_ring_region_keeps_net_charge_and_double_bond_geometry():
+    # cutting must not turn a nitro group or an N-oxide into a cation (RDKit formal charges), and an
+    # E double bond that is kept stays E (RDKit canonical SMILES keeps the / \\ marks)
+    for smiles in ("[O-][N+](=O)CC1CCCCC1CCCCC", "C[N+](C)([O-])CC1CCCCC1CCCC"):
+        m = _mol(smiles)
+        sub, _ = K.ring_region(m, next(iter(m.GetRingInfo().AtomRings())))
+        assert Chem.GetFormalCharge(sub) == Chem.GetFormalCharge(m) == 0
+    m = _mol("C/C=C/CC1CCCCC1CCCC")
+    sub, _ = K.ring_region(m, next(iter(m.GetRingInfo().AtomRings())))
+    assert "/C=C/" in Chem.MolToSmiles(Chem.RemoveHs(sub))

@@ -577,3 +577,32 @@ def test_two_proton_pairs_bridged_by_fluorine():
     first, _ = abx_analytic(100.0, 80.0, 5000.0, 9.0, 6.0, -2.0)
     second, _ = abx_analytic(400.0, 430.0, 5000.0, 13.0, 4.0, 30.0)
     _assert_lines(t.freqs_hz, t.intensities, first + second)
+
+
+def test_long_line_lists_merge_in_halves_like_one_pass(monkeypatch):
+    # the two-thread merge must pool exactly like a plain pass over sorted lines (reference: the
+    # test's own _pool); clusters lie within 1e-7 Hz, clusters apart by at least 1e-3 Hz
+    import equivclass.simulate as simulate_module
+    monkeypatch.setattr(simulate_module, "PARALLEL_MERGE_FROM", 10)
+    rng = np.random.default_rng(3)
+    centres = np.round(rng.uniform(-500, 500, 3000), 3)
+    f = np.repeat(np.unique(centres), 3) + rng.uniform(0, 1e-7, 3 * np.unique(centres).size)
+    runs = np.array_split(rng.permutation(f.size), 4)          # a few sorted runs, as the simulator makes
+    f = np.concatenate([np.sort(f[r]) for r in runs])
+    a = rng.uniform(0.1, 1.0, f.size)
+    got_f, got_a = simulate_module._merge_halves(f, a)
+    expected = _pool(zip(f, a), 1e-6)
+    np.testing.assert_allclose(got_f, [x for x, _ in expected], rtol=0, atol=1e-9)
+    np.testing.assert_allclose(got_a, [y for _, y in expected], rtol=1e-12)
+
+
+def test_merge_in_halves_joins_a_group_cut_by_the_pivot(monkeypatch):
+    # one chain of lines 5e-7 Hz apart is one group whatever the pivot (merge rule of the simulator:
+    # neighbours closer than 1e-6 Hz pool, intensity-weighted); expected values from numpy directly
+    import equivclass.simulate as simulate_module
+    monkeypatch.setattr(simulate_module, "PARALLEL_MERGE_FROM", 10)
+    f = np.arange(200) * 5e-7 + 42.0
+    a = np.linspace(1.0, 2.0, 200)
+    got_f, got_a = simulate_module._merge_halves(f, a)
+    assert got_f.size == 1
+    assert abs(got_a[0] - a.sum()) < 1e-12 and abs(got_f[0] - (f * a).sum() / a.sum()) < 1e-12

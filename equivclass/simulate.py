@@ -529,7 +529,7 @@ def _eigh_single(build):
         # a column-major call on a symmetric matrix; the eigenvectors come back
         # in the columns of the column-major array, i.e. the rows of ``h``
         if solver(h, w) == 0:
-            return w.astype(np.float64), h.T
+            return w.astype(np.float64), np.ascontiguousarray(h.T)
         h = build()
     w, v = sla.eigh(h, driver="evd", overwrite_a=True, check_finite=False)
     return w.astype(np.float64), v

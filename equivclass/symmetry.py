@@ -41,6 +41,7 @@ class Graph:
     planar_at: tuple[tuple, ...]             # atom -> planar-bond keys touching it or its subs
     has_centres: bool
     budget: int
+    starts: tuple[int, ...] = ()   # heavy atoms, then every atom: where the search order restarts
 
 
 def _resonance_labels(mol: Chem.Mol):
@@ -103,11 +104,13 @@ def build_graph(mol: Chem.Mol, config: Configuration, budget: int = DEFAULT_STEP
     for key, p in planar.items():
         for atom in (p.a, p.b, *p.subs_a, *p.subs_b):
             planar_at_lists[atom].append(key)
+    heavy = tuple(a.GetAtomicNum() > 1 for a in atom_list(mol))
     return Graph(n=n, nbrs=tuple(tuple(x) for x in nbrs), bond_label=bond_label, colour=tuple(colour),
-                 heavy=tuple(a.GetAtomicNum() > 1 for a in atom_list(mol)), centres=centres,
+                 heavy=heavy, centres=centres,
                  centres_at=centres_at, planar=planar,
                  planar_at=tuple(tuple(x) for x in planar_at_lists),
-                 has_centres=bool(centres), budget=budget)
+                 has_centres=bool(centres), budget=budget,
+                 starts=tuple(i for i in range(n) if heavy[i]) + tuple(range(n)))
 
 
 def refine(labels, nbrs, bond_label) -> list[int]:
@@ -226,7 +229,7 @@ class _Search:
         for r in roots:
             seen[r] = True
         heavy_queue = deque(roots)
-        starts = [i for i in range(g.n) if g.heavy[i]] + list(range(g.n))
+        starts = g.starts
         si = 0
         while True:
             while heavy_queue:

@@ -89,7 +89,10 @@ def _analyze_isomer(st: Structure, mol: Chem.Mol, opts: Options, warnings: tuple
     partners = [a for a, n in by_atom.items() if not n.dilute]
     couplings = estimate_couplings(mol, config, partners, decoupled=labile, threshold_hz=opts.threshold_hz)
     if opts.ring_couplings and _has_ring_ch2_ch(mol):
-        couplings = _with_ring_karplus(mol, couplings, opts.threshold_hz)
+        couplings, embedded = _with_ring_karplus(mol, couplings, opts.threshold_hz)
+        if not embedded:
+            warnings.append("ring vicinal H–H couplings: no conformer of the ring system could be "
+                            "embedded, so they are rotamer-averaged table values, not ring geometry")
     couplings = _symmetrized(couplings, orb.generators)
     jmap = {frozenset((c.a, c.b)): c for c in couplings}
     carbons = [a for a, n in by_atom.items() if n.dilute and n.isotope.symbol == "13C"]
@@ -193,12 +196,14 @@ def _has_ring_ch2_ch(mol: Chem.Mol) -> bool:
 
 
 def _with_ring_karplus(mol, couplings, threshold_hz):
-    """Replace table values of vicinal H–H across ring bonds by Karplus values on the same geometry."""
+    """Replace table values of vicinal H–H across ring bonds by Karplus values on the same geometry;
+    also say whether that geometry could be made (False: the table values stay)."""
     ring_bonds = {b.GetIdx() for b in bond_list(mol) if any(
         len(r) <= KARPLUS_MAX_RING for r in mol.GetRingInfo().BondRings() if b.GetIdx() in r)}
     pairs = [(c.a, c.b) for c in couplings if c.n_bonds == 3 and c.basis == "HH3_sp3" and
              _vicinal_bond(mol, c.a, c.b) in ring_bonds]
     found = karplus.ring_vicinal_couplings(mol, pairs)
+    embedded = bool(found) or not karplus.ring_pairs(mol, pairs)
     found.update(_three_ring_vicinal(mol, couplings))
     out = []
     for c in couplings:
@@ -207,7 +212,7 @@ def _with_ring_karplus(mol, couplings, threshold_hz):
             out.append(c)
         elif abs(hit[0]) >= threshold_hz:
             out.append(Coupling(c.a, c.b, hit[0], hit[1], c.n_bonds))
-    return tuple(out)
+    return tuple(out), embedded
 
 
 def _three_ring_vicinal(mol: Chem.Mol, couplings) -> dict:

@@ -151,7 +151,9 @@ def _only_in_3_ring(mol: Chem.Mol, bond: Chem.Bond) -> bool:
     return bool(sizes) and min(sizes) == 3
 
 
-def _ring_pairs(mol: Chem.Mol, pairs) -> list[tuple[int, int, int, int]]:
+def ring_pairs(mol: Chem.Mol, pairs) -> list[tuple[int, int, int, int]]:
+    """(h1, h2, c1, c2) of the pairs whose vicinal bond lies in a non-aromatic ring other than a
+    three-membered one: the pairs the Karplus route estimates."""
     out = []
     for h1, h2 in pairs:
         cc = vicinal_fragment(mol, h1, h2)
@@ -388,7 +390,7 @@ def ring_vicinal_couplings(mol: Chem.Mol, pairs, n_conformers: int = 16, seed: i
     molecule cannot be embedded.
     """
     try:
-        work = _ring_pairs(mol, list(pairs))
+        work = ring_pairs(mol, list(pairs))
         if not work:
             return {}
         region = ring_region(mol, {c for _, _, c1, c2 in work for c in (c1, c2)})

@@ -165,3 +165,14 @@ def test_ring_region_keeps_net_charge_and_double_bond_geometry():
     m = _mol("C/C=C/CC1CCCCC1CCCC")
     sub, _ = K.ring_region(m, next(iter(m.GetRingInfo().AtomRings())))
     assert "/C=C/" in Chem.MolToSmiles(Chem.RemoveHs(sub))
+
+
+def test_failed_embedding_is_reported_not_silent(monkeypatch):
+    # when no conformer can be made the ring couplings fall back to the rotamer-averaged table value
+    # (data/couplings.csv HH3_sp3) and the report says so (rule of the project: never a silently
+    # different answer)
+    import equivclass
+    monkeypatch.setattr(K, "ring_vicinal_couplings", lambda mol, pairs, **kw: {})
+    r = equivclass.analyze("OC1CCCCC1")
+    assert any("could be embedded" in w for w in r.warnings)
+    assert not any("Karplus" in c.j_basis for c in r.couplings)

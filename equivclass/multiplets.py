@@ -27,6 +27,7 @@ import numpy as np
 from rdkit import Chem
 
 from equivclass import nucdata
+from equivclass.disjoint_sets import DisjointSets
 from equivclass.errors import InputError
 from equivclass.tables import table_rows
 
@@ -249,19 +250,12 @@ def _merge_abs(lines: list[tuple[float, float]]) -> tuple[tuple[float, float], .
 
 
 def _components(n_atoms: int, couplings: list[dict]) -> list[int]:
-    parent = list(range(n_atoms))
-
-    def find(a: int) -> int:
-        while parent[a] != a:
-            parent[a] = parent[parent[a]]
-            a = parent[a]
-        return a
-
+    """Representative atom of each atom's component of the non-zero coupling network."""
+    ds = DisjointSets(range(n_atoms))
     for c in couplings:
-        a, b = c["atoms"]
         if c.get("j_hz"):
-            parent[find(a)] = find(b)
-    return [find(a) for a in range(n_atoms)]
+            ds.union(*c["atoms"])
+    return [ds.find(a) for a in range(n_atoms)]
 
 
 def _letter(sets: list[dict], i: int) -> str:

@@ -12,6 +12,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 from . import nucdata
+from .disjoint_sets import DisjointSets
 
 PRIMES = ("", "′", "″", "‴", "⁗")
 ASCII_PRIMES = ("", "'", "''", "'''", "''''")
@@ -44,29 +45,17 @@ class FragmentLabel:
 def _connected(atoms, couplings, groups) -> list[set]:
     """Connected components of `atoms` joined by the couplings and by each group of `groups`
     (magnetic subsets: magnetically equivalent nuclei act as one node)."""
-    parent = {a: a for a in atoms}
-
-    def find(x):
-        while parent[x] != x:
-            parent[x] = parent[parent[x]]
-            x = parent[x]
-        return x
-
-    def union(x, y):
-        rx, ry = find(x), find(y)
-        if rx != ry:
-            parent[max(rx, ry)] = min(rx, ry)
-
+    ds = DisjointSets(atoms)
     for c in couplings:
-        if c.a in parent and c.b in parent:
-            union(c.a, c.b)
+        if c.a in ds and c.b in ds:
+            ds.union(c.a, c.b)
     for group in groups:
-        inside = [a for a in group if a in parent]
+        inside = [a for a in group if a in ds]
         for a in inside[1:]:
-            union(inside[0], a)
+            ds.union(inside[0], a)
     out = {}
     for a in atoms:
-        out.setdefault(find(a), set()).add(a)
+        out.setdefault(ds.find(a), set()).add(a)
     return list(out.values())
 
 

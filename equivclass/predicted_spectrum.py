@@ -27,6 +27,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from equivclass import nucdata
+from equivclass.disjoint_sets import DisjointSets
 from equivclass.errors import InputError
 from equivclass.multiplets import first_order_lines
 from equivclass.simulate import SpinSystem, Transitions, equivalent_groups, simulate
@@ -187,22 +188,12 @@ def spectrum_of(report, observe: str = "1H", decouple=(), max_block: int = MAX_B
 
 def _components(atoms, neighbours) -> list:
     """Connected components (sorted atom lists) of the coupling network restricted to ``atoms``."""
-    inside = set(atoms)
-    seen, out = set(), []
+    ds = DisjointSets(atoms)
     for a in atoms:
-        if a in seen:
-            continue
-        stack, comp = [a], []
-        seen.add(a)
-        while stack:
-            x = stack.pop()
-            comp.append(x)
-            for y in neighbours.get(x, {}):
-                if y in inside and y not in seen:
-                    seen.add(y)
-                    stack.append(y)
-        out.append(sorted(comp))
-    return out
+        for b in neighbours.get(a, ()):
+            if b in ds:
+                ds.union(a, b)
+    return ds.groups()
 
 
 def _system(atoms, sets, set_of_atom, neighbours, proton_mhz, record) -> SpinSystem:

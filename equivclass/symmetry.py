@@ -15,6 +15,7 @@ from dataclasses import dataclass
 
 from rdkit import Chem
 from .atoms import atom_list, bond_list
+from .disjoint_sets import DisjointSets
 
 from .errors import InputError
 from .stereo import Configuration
@@ -321,30 +322,6 @@ def find_symmetry(g: Graph, fixed: dict[int, int], sign: int):
     return _Search(g, sign).run(fixed)
 
 
-class _UnionFind:
-    def __init__(self, items):
-        self.parent = {i: i for i in items}
-
-    def find(self, i):
-        while self.parent[i] != i:
-            self.parent[i] = self.parent[self.parent[i]]
-            i = self.parent[i]
-        return i
-
-    def union(self, i, j) -> bool:
-        ri, rj = self.find(i), self.find(j)
-        if ri == rj:
-            return False
-        self.parent[max(ri, rj)] = min(ri, rj)
-        return True
-
-    def groups(self):
-        out = {}
-        for i in self.parent:
-            out.setdefault(self.find(i), []).append(i)
-        return sorted((sorted(v) for v in out.values()), key=lambda v: v[0])
-
-
 @dataclass(frozen=True)
 class Orbits:
     """Orbits of the active atoms under G and under its proper part G+."""
@@ -355,7 +332,7 @@ class Orbits:
     generators: tuple = ()                      # the elements of G found on the way (atom images)
 
 
-def _orbits_under(g: Graph, atoms, signs, uf: _UnionFind, found: list):
+def _orbits_under(g: Graph, atoms, signs, uf: DisjointSets, found: list):
     atom_set = set(atoms)
     by_colour = {}
     for a in atoms:
@@ -383,12 +360,12 @@ def _orbits_under(g: Graph, atoms, signs, uf: _UnionFind, found: list):
 def orbits(g: Graph, atoms, chiral_medium: bool = False) -> Orbits:
     """Chemical-equivalence sets of `atoms`: orbits of G (proper only in a chiral medium)."""
     atoms = sorted(atoms)
-    uf_p = _UnionFind(atoms)
+    uf_p = DisjointSets(atoms)
     found = []
     _orbits_under(g, atoms, (1,), uf_p, found)
     proper = uf_p.groups()
     enantio = []
-    uf_g = _UnionFind(atoms)
+    uf_g = DisjointSets(atoms)
     for grp in proper:
         for a in grp[1:]:
             uf_g.union(grp[0], a)

@@ -69,7 +69,8 @@ def _stereo_warnings(choice, opts) -> tuple[str, ...]:
 def _analyze_isomer(st: Structure, mol: Chem.Mol, opts: Options, warnings: tuple) -> Report:
     warnings = list(st.notes) + list(warnings)
     sys.setrecursionlimit(max(sys.getrecursionlimit(), 4 * mol.GetNumAtoms() + 200))
-    if opts.ring_couplings and _has_ring_ch2_ch(mol):
+    ring_karplus = opts.ring_couplings and _has_ring_ch2_ch(mol)   # topology only: asked once
+    if ring_karplus:
         mol = with_conformer(mol) or mol
     config = configuration(mol, amide_rotation_fast=opts.amide_rotation_fast)
     if any(p.kind == "amide" for p in config.planar):
@@ -88,7 +89,7 @@ def _analyze_isomer(st: Structure, mol: Chem.Mol, opts: Options, warnings: tuple
     labile = frozenset() if opts.labile_coupled else labile_protons(mol)
     partners = [a for a, n in by_atom.items() if not n.dilute]
     couplings = estimate_couplings(mol, config, partners, decoupled=labile, threshold_hz=opts.threshold_hz)
-    if opts.ring_couplings and _has_ring_ch2_ch(mol):
+    if ring_karplus:
         couplings, embedded = _with_ring_karplus(mol, couplings, opts.threshold_hz)
         if not embedded:
             warnings.append("ring vicinal H–H couplings: no conformer of the ring system could be "

@@ -300,6 +300,16 @@ def _small_ring_size(mol: Chem.Mol, i: int, j: int) -> int | None:
     return min(sizes) if sizes else None
 
 
+def _across_sp2(prefix: str, path, b12, planar) -> str | None:
+    """Three-bond rule across an aromatic bond (ortho) or a C=C (cis/trans), or None."""
+    if b12.GetIsAromatic():
+        return f"{prefix}_aryl_ortho"
+    if b12.GetBondType() == Chem.BondType.DOUBLE:
+        cis = _is_cis(planar, path[0], path[1], path[2], path[3])
+        return f"{prefix}_alkene_trans" if cis is False else f"{prefix}_alkene_cis"
+    return None
+
+
 def _classify_hf(mol, path, atoms, inner, nb, bond, planar):
     f_first = atoms[0].GetAtomicNum() == 9
     if nb == 2:
@@ -308,12 +318,9 @@ def _classify_hf(mol, path, atoms, inner, nb, bond, planar):
             return "HF2_vinyl"
         return "HF2_chf2" if _n_fluorines(c) >= 2 else "HF2_ch2f"
     if nb == 3:
-        b12 = bond(1, 2)
-        if b12.GetIsAromatic():
-            return "HF3_aryl_ortho"
-        if b12.GetBondType() == Chem.BondType.DOUBLE:
-            cis = _is_cis(planar, path[0], path[1], path[2], path[3])
-            return "HF3_alkene_trans" if cis is False else "HF3_alkene_cis"
+        across = _across_sp2("HF3", path, bond(1, 2), planar)
+        if across:
+            return across
         cf = inner[0] if f_first else inner[1]
         nf = _n_fluorines(cf)
         return "HF3_cf3" if nf >= 3 else ("HF3_cf2" if nf == 2 else "HF3_cf")
@@ -328,13 +335,7 @@ def _classify_ff(mol, path, atoms, inner, nb, bond, planar):
     if nb == 2:
         return "FF2_vinyl" if inner[0].GetHybridization() == Chem.HybridizationType.SP2 else "FF2_sp3"
     if nb == 3:
-        b12 = bond(1, 2)
-        if b12.GetIsAromatic():
-            return "FF3_aryl_ortho"
-        if b12.GetBondType() == Chem.BondType.DOUBLE:
-            cis = _is_cis(planar, path[0], path[1], path[2], path[3])
-            return "FF3_alkene_trans" if cis is False else "FF3_alkene_cis"
-        return "FF3_sp3"
+        return _across_sp2("FF3", path, bond(1, 2), planar) or "FF3_sp3"
     if nb == 4:
         if all(x.GetIsAromatic() for x in inner):
             return "FF4_aryl_meta"
@@ -455,7 +456,7 @@ def _path_class_key(adj, kind, a: int, b: int, n_bonds: int, planar: dict):
 
 
 @functools.lru_cache(maxsize=1)
-def _huggins_chi() -> dict[str, float]:
+def huggins_chi() -> dict[str, float]:
     """Huggins electronegativities by element symbol (data/karplus.csv)."""
     return {r["key"]: float(r["value"]) for r in table_rows("karplus.csv") if r["kind"] == "chi"}
 
@@ -463,7 +464,7 @@ def _huggins_chi() -> dict[str, float]:
 @functools.lru_cache(maxsize=1)
 def _alkene_lines() -> dict[str, tuple[float, float]]:
     """{rule: (J of ethylene, slope per unit of electronegativity)} from data/alkene_couplings.csv."""
-    chi = _huggins_chi()
+    chi = huggins_chi()
     out = {}
     for r in table_rows("alkene_couplings.csv"):
         j0, jf = float(r["ethylene_hz"]), float(r["vinyl_fluoride_hz"])
@@ -495,7 +496,7 @@ def _alkene_value(mol: Chem.Mol, path, rule: str) -> float | None:
             if n.GetIdx() not in skip and n.GetAtomicNum() > 1]
     if not any(n.GetAtomicNum() in _HETERO for n in subs):
         return None
-    chi = _huggins_chi()
+    chi = huggins_chi()
     h = chi["H"]
     # the line is calibrated between ethylene and vinyl fluoride: no extrapolation beyond one fluorine
     shift = min(sum(chi.get(n.GetSymbol(), h) - h for n in subs), chi["F"] - h)

@@ -28,6 +28,7 @@ import math
 
 from rdkit import Chem
 from rdkit.Chem import AllChem, rdMolTransforms
+from equivclass.couplings import huggins_chi
 from equivclass.tables import table_rows
 
 __all__ = ["haasnoot_j", "vicinal_j_from_geometry", "ring_vicinal_couplings", "rotamer_average_vicinal",
@@ -45,10 +46,9 @@ def _rows():
 
 @functools.lru_cache(maxsize=1)
 def _tables() -> tuple[dict[str, float], dict[str, float]]:
-    params, chi = {}, {}
-    for r in _rows():
-        (params if r["kind"] == "param" else chi)[r["key"]] = float(r["value"])
-    return params, chi
+    """(equation parameters, Huggins electronegativities), both from data/karplus.csv."""
+    params = {r["key"]: float(r["value"]) for r in _rows() if r["kind"] == "param"}
+    return params, huggins_chi()
 
 
 def haasnoot_j(phi_deg: float, substituents: list[tuple[float, int]] = ()) -> float:

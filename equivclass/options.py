@@ -1,6 +1,7 @@
 """Model and output options of one analysis (immutable)."""
 from __future__ import annotations
 
+import numbers
 from dataclasses import dataclass, field
 
 from . import nucdata
@@ -58,4 +59,22 @@ def make_options(**kwargs) -> Options:
         kwargs["shifts"] = tuple(sorted((int(k), float(v)) for k, v in
                                         (sh.items() if isinstance(sh, dict) else sh)))
     kwargs = {k: v for k, v in kwargs.items() if v is not None}
+    for k, v in kwargs.items():
+        _check_type(k, v)
     return Options(**kwargs).checked()
+
+
+_BOOL_FIELDS = ("amide_rotation_fast", "labile_coupled", "chiral_medium", "ring_couplings")
+_NUMBER_FIELDS = ("mhz", "threshold_hz")
+_INT_FIELDS = ("max_heavy_atoms", "stereoisomer")
+
+
+def _check_type(name: str, value) -> None:
+    """A value of the wrong kind is an error naming the option (a string such as "table" would
+    otherwise pass as a true flag)."""
+    if name in _BOOL_FIELDS and not isinstance(value, bool):
+        raise InputError(f"option {name}: give true or false, not {value!r}")
+    if name in _NUMBER_FIELDS and (isinstance(value, bool) or not isinstance(value, numbers.Real)):
+        raise InputError(f"option {name}: give a number, not {value!r}")
+    if name in _INT_FIELDS and (isinstance(value, bool) or not isinstance(value, numbers.Integral)):
+        raise InputError(f"option {name}: give a whole number, not {value!r}")

@@ -164,3 +164,19 @@ def test_salt_is_one_structure():
     assert "." in d["smiles"] and "Na" in d["smiles"]
     h = [s for s in d["sets"] if s["isotope"] == "1H"]
     assert len(h) == 1 and len(h[0]["atoms"]) == 3
+
+
+@pytest.mark.parametrize("options, words", [
+    ({"ring_couplings": "table"}, ("ring_couplings", "true or false")),
+    ({"chiral_medium": 1}, ("chiral_medium",)),
+    ({"mhz": "600"}, ("mhz", "number")),
+    ({"stereoisomer": 1.5}, ("stereoisomer", "whole number")),
+])
+def test_api_option_of_wrong_kind_is_an_error(options, words):
+    """A wrong-kind option value is refused by name; a truthy string must not pass as a flag
+    (common practice: no silently wrong answer)."""
+    with pytest.raises(equivclass.errors.InputError) as exc:
+        equivclass.analyze("CCO", **options)
+    assert all(w in str(exc.value) for w in words), str(exc.value)
+    import numpy as np   # numpy numbers are numbers
+    assert equivclass.analyze("CCO", mhz=np.float64(600.0), stereoisomer=np.int64(0)).mhz == 600.0

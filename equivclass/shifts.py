@@ -7,7 +7,9 @@ Rules (tables with their sources in ``equivclass.data``, files ``shifts_*.csv``)
   for CH3/CH2/CH as in Pretsch et al. and Silverstein et al.).
   Carbons with several halogen / oxygen groups, or with fluorine (CHX3, CH2X2, CHX2R, CHF2R, CH2FR,
   acetals) take dedicated values of their parent compounds; other X-CH2-Y with two functional groups
-  follow Shoolery's rule (0.23 + sigma X + sigma Y, Shoolery 1959).
+  follow Shoolery's rule (0.23 + sigma X + sigma Y, Shoolery 1959). Methines beside one O / halogen
+  group damp the increments of further carbon-type groups, and methines beside one O / N group move
+  -0.20 ppm per beta carbon (corrections fitted to recalled shifts, data/shifts_1h_methine.csv).
 * 1H on P, Si, B, Sn, Ge: hydride base values by the class of the centre.
 * 1H on C=C: 5.25 + Z(gem) + Z(cis) + Z(trans) (Pascual, Meier & Simon 1966).
 * 1H on aromatic rings: base value of the ring position (benzene, naphthalene, heteroaromatics)
@@ -71,6 +73,8 @@ _C_ALKENE = {r["group"]: (float(r["z1"]), float(r["z2"])) for r in _rows("shifts
 _H_MULTI = {(r["kind"], r["groups"], r["other"], r["ring"]): (float(r["shift_ppm"]), r["note"])
             for r in _rows("shifts_1h_polysubstituted.csv")}
 _H_SHOOLERY = {r["group"]: float(r["sigma"]) for r in _rows("shifts_1h_shoolery.csv")}
+_H_METHINE_DAMP = {r["group"]: float(r["value"]) for r in _rows("shifts_1h_methine.csv") if r["rule"] == "damp"}
+_H_METHINE_BETA_C = next(float(r["value"]) for r in _rows("shifts_1h_methine.csv") if r["rule"] == "beta_carbon")
 _F_BASE = {r["key"]: float(r["shift_ppm"]) for r in _rows("shifts_19f.csv")}
 _P_BASE = {r["key"]: float(r["shift_ppm"]) for r in _rows("shifts_31p.csv")}
 
@@ -331,7 +335,7 @@ def _h_sp3(mol, c) -> ShiftEstimate:
             return hit
     col = {"CH3": 0, "CH2": 1, "CH": 2}[kind]
     terms: list[float] = [_H_BASE[kind]]
-    alpha_names: list[str] = []
+    alphas: list[tuple[str, float, object]] = []
     beta_names: list[str] = []
     missing: list[str] = []
     for a in heavy:
@@ -340,9 +344,7 @@ def _h_sp3(mol, c) -> ShiftEstimate:
         if row is None:
             missing.append(g)
             continue
-        terms.append(row[col])
-        if k != "alkyl":
-            alpha_names.append(k)
+        alphas.append((k, row[col], a))
         if k == "alkyl":  # beta increments through an sp3 carbon neighbour
             ai = a.GetIdx()
             for b in a.GetNeighbors():
@@ -356,6 +358,12 @@ def _h_sp3(mol, c) -> ShiftEstimate:
                 if kb != "alkyl":
                     terms.append(rowb[3])
                     beta_names.append(kb)
+    methine = _methine_corrections(mol, c, alphas) if kind == "CH" and not missing else None
+    alpha_names = [k for k, _, _ in alphas if k != "alkyl"]
+    if methine is None:
+        terms.extend(v for _, v, _ in alphas)
+    else:
+        terms.extend(methine[0])
     ring = ""
     if mol.GetRingInfo().IsAtomInRingOfSize(ci, 3):
         terms.append(_H_BASE["ring3"])
@@ -367,7 +375,49 @@ def _h_sp3(mol, c) -> ShiftEstimate:
         parts.append("beta " + _fmt(beta_names))
     detail = "; ".join(parts) if parts else "alkyl only"
     note = f"; no increment for {_fmt(missing)}" if missing else ""
+    if methine is not None:
+        note += "; " + methine[1]
     return ShiftEstimate(_sum(terms), f"{kind}: Shoolery-type increments ({detail}){ring}{note}")
+
+
+_METHINE_STRONG = {"OH", "OR", "OAr", "OC(O)R", "OC(O)Ar", "Cl", "Br", "I"}
+_METHINE_BETA_GROUPS = {"OH", "OR", "OAr", "OC(O)R", "OC(O)Ar", "NR2", "NAr", "NC(O)R"}
+
+
+def _methine_class(key: str) -> str:
+    return "acyl" if key in _ACYL else key
+
+
+def _methine_corrections(mol, c, alphas) -> tuple[list[float], str] | None:
+    """Alpha terms of a methine with the corrections of data/shifts_1h_methine.csv (saturation of a
+    carbon-type group beside one O / heavy-halogen group; beta-carbon shielding beside one O / N group),
+    and their note; None where neither applies."""
+    ci = c.GetIdx()
+    functional = [k for k, _, _ in alphas if k != "alkyl"]
+    hetero = [k for k in functional if k in _METHINE_STRONG or k in _METHINE_BETA_GROUPS]
+    if len(hetero) != 1:
+        return None
+    carbon_type = [k for k in functional if k != hetero[0]]
+    notes, out = [], [v for _, v, _ in alphas]
+    if hetero[0] in _METHINE_STRONG and carbon_type and \
+            all(_methine_class(k) in _H_METHINE_DAMP for k in carbon_type):
+        damped = []
+        for i, (k, v, _) in enumerate(alphas):
+            if k in carbon_type:
+                f = _H_METHINE_DAMP[_methine_class(k)]
+                out[i] = v * f
+                damped.append(f"{k} x{f:g}")
+        notes.append(f"methine saturation beside {hetero[0]} ({', '.join(damped)})")
+    elif carbon_type:
+        return None
+    if hetero[0] in _METHINE_BETA_GROUPS and \
+            not any(mol.GetRingInfo().IsAtomInRingOfSize(ci, n) for n in (3, 4, 5)):
+        n_beta = sum(1 for k, _, a in alphas if k == "alkyl"
+                     for b in a.GetNeighbors() if b.GetIdx() != ci and b.GetAtomicNum() == 6)
+        if n_beta:
+            out.append(_H_METHINE_BETA_C * min(n_beta, 4))
+            notes.append(f"{n_beta} beta carbon{'s' if n_beta > 1 else ''}, {_H_METHINE_BETA_C:+.2f} each")
+    return (out, "; ".join(notes)) if notes else None
 
 
 def _sum(terms: list[float]) -> float:

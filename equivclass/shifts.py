@@ -17,7 +17,8 @@ Rules (tables with their sources in ``equivclass.data``, files ``shifts_*.csv``)
 * Aldehydes, alkynes, imines, labile O-H/N-H/S-H: class base values.
 * 13C: Grant-Paul alkane rule + substituent increments; benzene increments; alkene increments;
   carbonyl / nitrile / alkyne base values.
-* 19F and 31P: group base values chosen by the atoms bonded to the nucleus.
+* 19F and 31P: group base values chosen by the atoms bonded to the nucleus; F on benzene rings
+  adds ortho (F only), meta and para increments to fluorobenzene (data/shifts_19f_arene.csv).
 
 Every estimate depends only on constitution, bond orders and (for cis/trans on C=C) the double-bond
 configuration, so symmetry-equivalent atoms receive equal estimates. Estimates, not measurements.
@@ -76,6 +77,8 @@ _H_SHOOLERY = {r["group"]: float(r["sigma"]) for r in _rows("shifts_1h_shoolery.
 _H_METHINE_DAMP = {r["group"]: float(r["value"]) for r in _rows("shifts_1h_methine.csv") if r["rule"] == "damp"}
 _H_METHINE_BETA_C = next(float(r["value"]) for r in _rows("shifts_1h_methine.csv") if r["rule"] == "beta_carbon")
 _F_BASE = {r["key"]: float(r["shift_ppm"]) for r in _rows("shifts_19f.csv")}
+_F_ARENE = {r["group"]: tuple(float(r[k]) if r[k] else None for k in ("ortho", "meta", "para"))
+            for r in _rows("shifts_19f_arene.csv")}
 _P_BASE = {r["key"]: float(r["shift_ppm"]) for r in _rows("shifts_31p.csv")}
 
 # A fine group class falls back to a coarser one when a table has no row for it (rule logic).
@@ -983,6 +986,30 @@ def _f_base(key: str, what: str) -> ShiftEstimate:
     return ShiftEstimate(_F_BASE[key], f"{what} base value ({key})")
 
 
+def _aryl_f(mol, x) -> ShiftEstimate:
+    """F on a benzene ring: fluorobenzene + ortho (F only) / meta / para increments
+    (data/shifts_19f_arene.csv); other aromatic rings keep the aryl-F base value."""
+    xi = x.GetIdx()
+    ring = _aromatic_ring(mol, xi)
+    if ring is None or _ring_key(mol, xi, ring) != "cccccc":
+        return _f_base("aryl-F", "aryl-F")
+    terms, names, left_out = [_F_BASE["aryl-F"]], [], []
+    for d, g in _ring_substituents(mol, xi, ring):
+        if d == 0:
+            continue
+        k, row = _lookup(_F_ARENE, g)
+        z = row[d - 1] if row is not None else None
+        if z is None:
+            left_out.append(f"{_POS[d]}-{g}")
+            continue
+        terms.append(z)
+        names.append(f"{_POS[d]}-{k}")
+    basis = f"19F fluorobenzene increments ({_fmt(names)})" if names else "19F fluorobenzene value"
+    if left_out:
+        basis += f"; not included: {_fmt(left_out)}"
+    return ShiftEstimate(_sum(terms), basis)
+
+
 def _estimate_19f(mol, f) -> ShiftEstimate:
     nbrs = list(f.GetNeighbors())
     if not nbrs:
@@ -1008,7 +1035,7 @@ def _estimate_19f(mol, f) -> ShiftEstimate:
     if z != 6:
         return _NO_RULE_F
     if x.GetIsAromatic():
-        return _f_base("aryl-F", "aryl-F")
+        return _aryl_f(mol, x)
     if _has_double_o(mol, x):
         aryl = any(n.GetIsAromatic() for n in x.GetNeighbors())
         return _f_base("acyl-F-aryl" if aryl else "acyl-F", "acyl-F")
@@ -1039,6 +1066,8 @@ def _estimate_19f(mol, f) -> ShiftEstimate:
                 return _f_base("CF3-alkenyl", "CF3")
             if any(n.GetAtomicNum() == 9 for n in y.GetNeighbors()):
                 return _f_base("CF3-perfluoroalkyl", "CF3")
+            if any(n.GetAtomicNum() == 8 for n in y.GetNeighbors()):
+                return _f_base("CF3-C-O", "CF3")
         return _f_base("CF3-alkyl", "CF3")
     if nf == 2:
         if nh:

@@ -251,7 +251,13 @@ REFERENCE = [
     ("19F", "[F:1]C(F)(F)C(=O)O", "19F", -76.5, "DOL trifluoroacetic acid", None),
     ("19F", "Cc1ccc([F:1])cc1", "19F", -118.5, "DOL 4-fluorotoluene", None),
     ("19F", "O=[N+]([O-])c1ccc([F:1])cc1", "19F", -103.0, "DOL 1-fluoro-4-nitrobenzene", None),
-    ("19F", "OCC([F:1])(F)F", "19F", -77.8, "DOL 2,2,2-trifluoroethanol", None),
+    ("19F", "COc1ccc([F:1])cc1", "19F", -124.4, "DOL 4-fluoroanisole (parent)", None),
+    ("19F", "Fc1cccc([F:1])c1", "19F", -110.0, "DOL 1,3-difluorobenzene (parent)", None),
+    ("19F", "Fc1c(F)c(F)c(F)c(F)c1[F:1]", "19F", -164.9, "DOL hexafluorobenzene", None),
+    ("19F", "[F:1]c1cc(F)c(F)c(F)c1F", "19F", -139.0, "DOL pentafluorobenzene F2/F6", None),
+    ("19F", "Fc1cc(F)c([F:1])c(F)c1F", "19F", -162.0, "DOL pentafluorobenzene F3/F5", None),
+    ("19F", "Fc1cc(F)c(F)c([F:1])c1F", "19F", -154.0, "DOL pentafluorobenzene F4", None),
+    ("19F", "OCC([F:1])(F)F", "19F", -77.8, "DOL 2,2,2-trifluoroethanol (parent)", None),
     ("19F", "CCCC[F:1]", "19F", -219.0, "DOL 1-fluorobutane", None),
     ("19F", "O=C([F:1])c1ccccc1", "19F", 17.9, "DOL benzoyl fluoride", None),
     # ---------------------------------------------------------------- 31P (vs 85 % H3PO4)
@@ -270,7 +276,7 @@ REFERENCE = [
 
 CH_CLASSES = ("alkyl", "alkene", "aromatic", "heteroaromatic", "aldehyde")
 # ppm, stated before measuring; "hydride" (H on P, Si, Sn, B) has a wide range per class
-BOUNDS = {"13C": 3.5, "19F": 6.0, "31P": 8.0, "labile": 1.0, "hydride": 0.5}
+BOUNDS = {"13C": 3.5, "19F": 2.0, "31P": 8.0, "labile": 1.0, "hydride": 0.5}
 
 
 def _prepare(smiles: str, geometry: str | None):

@@ -179,19 +179,56 @@ def _embedded_coordinates(mol: Chem.Mol):
     from rdkit.Chem import AllChem
     if any(a.GetDegree() > 4 or is_metal(a) for a in atom_list(mol)):
         return None   # force-field geometry of metal and hypervalent centres is not meaningful here
-    params = AllChem.ETKDGv3()
-    params.randomSeed = 0xEC
-    params.enforceChirality = True
-    params.timeout = EMBED_TIMEOUT_S
-    m = Chem.Mol(mol)
-    try:
-        if AllChem.EmbedMolecule(m, params) != 0:
-            params.useRandomCoords = True
+    fusions = _three_ring_fusions(mol)
+    coords = None
+    for attempt in range(EMBED_ATTEMPTS if fusions else 1):
+        params = AllChem.ETKDGv3()
+        params.randomSeed = 0xEC + attempt
+        params.enforceChirality = True
+        params.timeout = EMBED_TIMEOUT_S
+        m = Chem.Mol(mol)
+        try:
             if AllChem.EmbedMolecule(m, params) != 0:
-                return None
-    except Exception:
-        return None
-    return m.GetConformer().GetPositions()
+                params.useRandomCoords = True
+                if AllChem.EmbedMolecule(m, params) != 0:
+                    return coords
+        except Exception:
+            return coords
+        coords = m.GetConformer().GetPositions()
+        if all(_cis_across(coords, *f) for f in fusions):
+            break
+    return coords
+
+
+EMBED_ATTEMPTS = 4   # seeds tried until every three-membered ring fused to a small ring is cis-fused
+
+
+def _three_ring_fusions(mol: Chem.Mol) -> list[tuple[int, int, int, int]]:
+    """(x, a, b, y) for each bond a–b shared by a three-membered ring and a ring of at most six atoms,
+    x and y the substituents of a and b outside both rings. Such a fusion can only be cis (a trans-fused
+    bicyclo[n.1.0] system with n ≤ 4 cannot close; common practice)."""
+    rings = mol.GetRingInfo().AtomRings()
+    out = []
+    for r3 in (r for r in rings if len(r) == 3):
+        for r in rings:
+            shared = set(r3) & set(r)
+            if r is r3 or len(r) > 6 or len(shared) != 2:
+                continue
+            a, b = sorted(shared)
+            both = set(r3) | set(r)
+            x = next((n.GetIdx() for n in mol.GetAtomWithIdx(a).GetNeighbors() if n.GetIdx() not in both), None)
+            y = next((n.GetIdx() for n in mol.GetAtomWithIdx(b).GetNeighbors() if n.GetIdx() not in both), None)
+            if x is not None and y is not None:
+                out.append((x, a, b, y))
+    return out
+
+
+def _cis_across(coords, x: int, a: int, b: int, y: int) -> bool:
+    """True when substituents x (on a) and y (on b) lie on one side of the bond a–b: dihedral under 90°."""
+    import numpy as np
+    b0, b1, b2 = coords[a] - coords[x], coords[b] - coords[a], coords[y] - coords[b]
+    n1, n2 = np.cross(b0, b1), np.cross(b1, b2)
+    return float(np.dot(n1, n2)) > 0
 
 
 def is_metal(atom: Chem.Atom) -> bool:

@@ -15,6 +15,7 @@ import pytest
 from rdkit import Chem
 from rdkit.Chem import AllChem, rdMolTransforms
 
+import equivclass
 from equivclass.stereo import configuration
 from equivclass.structure import read_structure
 
@@ -178,3 +179,21 @@ def test_known_geometries_by_element():
         p = next(p for p in configuration(mol).planar if p.kind == "double")
         carboxyl = [i for i in (*p.subs_a, *p.subs_b) if mol.GetAtomWithIdx(i).GetAtomicNum() == 6]
         assert (frozenset(carboxyl) in p.cis) == want_cis
+
+
+@pytest.mark.parametrize("smiles", ["C1CCC2OC2C1", "C1CCC2CC2C1", "C1CC2OC2C1"])
+def test_unspecified_three_ring_fusion_is_cis(smiles):
+    """A three-membered ring fused to a five- or six-membered ring can only be cis-fused (common
+    practice: trans-bicyclo[4.1.0]heptane and smaller cannot close), so the two fusion H must be cis:
+    the oxirane/cyclopropane cis rule or a Karplus value, never the trans rule."""
+    d = equivclass.analyze(smiles).to_dict()
+    fusion = [a.GetIdx() for a in Chem.MolFromSmiles(smiles).GetAtoms()
+              if a.IsInRingSize(3) and a.GetDegree() == 3]
+    hs = {a: s["index"] for s in d["sets"] for a in s["atoms"]}
+    mol = Chem.AddHs(Chem.MolFromSmiles(smiles))
+    fusion_h = [n.GetIdx() for c in fusion for n in mol.GetAtomWithIdx(c).GetNeighbors() if n.GetAtomicNum() == 1]
+    assert len(fusion_h) == 2
+    rules = [cp["j_basis"] for s in d["sets"] if s["index"] == hs[fusion_h[0]] for cp in s["couplings"]
+             if cp["to_set"] == hs[fusion_h[1]]]
+    assert rules and not any("trans" in r for r in rules), rules
+    assert not any("no conformer" in w for w in d["warnings"]), d["warnings"]

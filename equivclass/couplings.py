@@ -222,19 +222,38 @@ def _classify_hh(mol, path, atoms, inner, nb, bond, planar):
             if kind in ("pyridine", "furan", "thiophene", "pyrrole"):
                 tag = "23" if 2 in pos else "34"
                 return f"HH3_{kind}_{tag}"
+            key = _two_hetero_ring_rule(mol, ring, path[1:3])
+            if key is not None:
+                return key
             return "HH3_benzene_ortho" if len(ring) == 6 else "HH3_aromatic5_other"
         if b12.GetBondType() == Chem.BondType.DOUBLE:
             ring_size = _small_ring_size(mol, path[1], path[2])
             if ring_size:
                 return f"HH3_ring_alkene_{ring_size}"
             cis = _is_cis(planar, path[0], path[1], path[2], path[3])
-            return "HH3_alkene_trans" if cis is False else "HH3_alkene_cis"
+            if cis is False:
+                both = all(any(n.GetAtomicNum() > 1 and n.GetIdx() not in path for n in c.GetNeighbors())
+                           for c in inner)
+                return "HH3_alkene_trans_disubstituted" if both else "HH3_alkene_trans"
+            return "HH3_alkene_cis"
         c1, c2 = inner
+        if {c1.GetAtomicNum(), c2.GetAtomicNum()} == {6, 8}:
+            return "HH3_hcoh"
         if c1.GetAtomicNum() == 7 or c2.GetAtomicNum() == 7:
+            c = c2 if c1.GetAtomicNum() == 7 else c1
+            if c.GetAtomicNum() == 6 and not c.GetIsAromatic():
+                return {3: "HH3_amide_nh_ch3", 2: "HH3_amide_nh_ch2", 1: "HH3_amide_nh_ch"}.get(
+                    c.GetTotalNumHs(includeNeighbors=True), "HH3_amide_nh")
             return "HH3_amide_nh"
         if c1.GetAtomicNum() == 6 and c2.GetAtomicNum() == 6:
             sp2 = [c for c in inner if c.GetHybridization() == Chem.HybridizationType.SP2]
             if any(_is_carbonyl(c) for c in sp2):
+                other = c2 if _is_carbonyl(c1) else c1
+                if other.GetHybridization() == Chem.HybridizationType.SP2 and not other.GetIsAromatic() \
+                        and not _is_carbonyl(other):
+                    return "HH3_cho_conj"
+                if other.GetTotalNumHs(includeNeighbors=True) == 3:
+                    return "HH3_cho_methyl"
                 return "HH3_cho"
             if sp2:
                 return "HH3_allylic_vicinal"
@@ -256,6 +275,8 @@ def _classify_hh(mol, path, atoms, inner, nb, bond, planar):
         for i in (1, 2):
             if bond(i, i + 1).GetBondType() == Chem.BondType.DOUBLE and not bond(i, i + 1).GetIsAromatic():
                 return "HH4_allylic"
+            if bond(i, i + 1).GetBondType() == Chem.BondType.TRIPLE:
+                return "HH4_propargylic"
         return None
     if nb == 5:
         if _is_cumulated(bond(2, 3), bond(3, 4)) or _is_cumulated(bond(1, 2), bond(2, 3)):
@@ -267,7 +288,49 @@ def _classify_hh(mol, path, atoms, inner, nb, bond, planar):
             return None
         if bond(2, 3).GetBondType() == Chem.BondType.DOUBLE and not bond(2, 3).GetIsAromatic():
             return "HH5_homoallylic"
+        if bond(2, 3).GetBondType() == Chem.BondType.TRIPLE:
+            return "HH5_homopropargylic"
     return None
+
+
+_TWO_HETERO_RINGS = {
+    (6, ("N", "N"), (1, 2)): "pyridazine", (6, ("N", "N"), (1, 3)): "pyrimidine",
+    (6, ("N", "N"), (1, 4)): "pyrazine",
+    (5, ("N", "N"), (1, 3)): "imidazole", (5, ("O", "N"), (1, 3)): "oxazole",
+    (5, ("S", "N"), (1, 3)): "thiazole", (5, ("N", "N"), (1, 2)): "pyrazole",
+    (5, ("O", "N"), (1, 2)): "isoxazole", (5, ("S", "N"), (1, 2)): "isothiazole",
+}
+_LOCANT_PRIORITY = {"O": 0, "S": 1, "N": 2}
+
+
+def _two_hetero_ring_rule(mol: Chem.Mol, ring, pair) -> str | None:
+    """Rule name HH3_<ring>_<locants> of an ortho H–H pair in a diazine or a 1,2-/1,3-azole, numbered
+    the usual way (heteroatoms lowest locants, O before S before N at position 1), when data/couplings.csv
+    has that row; None otherwise."""
+    n = len(ring)
+    syms = [mol.GetAtomWithIdx(i).GetSymbol() for i in ring]
+    if sum(1 for x in syms if x != "C") != 2:
+        return None
+    best = None
+    for start in range(n):
+        for step in (1, -1):
+            order = [ring[(start + step * k) % n] for k in range(n)]
+            sym = [mol.GetAtomWithIdx(i).GetSymbol() for i in order]
+            hetero = tuple(k + 1 for k, x in enumerate(sym) if x != "C")
+            if hetero[0] != 1:
+                continue
+            loc = tuple(sorted(order.index(a) + 1 for a in pair))
+            rank = (hetero, _LOCANT_PRIORITY.get(sym[0], 9), tuple(sym), loc)
+            if best is None or rank < best[0]:
+                best = (rank, sym)
+    if best is None:
+        return None
+    (hetero, _, _, loc), sym = best
+    name = _TWO_HETERO_RINGS.get((n, tuple(sym[k - 1] for k in hetero), hetero))
+    if name is None:
+        return None
+    key = f"HH3_{name}_{loc[0]}{loc[1]}"
+    return key if key in coupling_table() else None
 
 
 def _is_cumulated(b1: Chem.Bond, b2: Chem.Bond) -> bool:
@@ -513,10 +576,11 @@ def _best_estimate(mol, adj, a, b, dist, planar):
         if rule is None or rule not in table:
             continue
         value = table[rule][0]
-        if rule in ("HH3_alkene_cis", "HH3_alkene_trans", "HH2_sp2"):
-            alkene = _alkene_value(mol, path, rule)
+        if rule in ("HH3_alkene_cis", "HH3_alkene_trans", "HH3_alkene_trans_disubstituted", "HH2_sp2"):
+            base = "HH3_alkene_trans" if rule == "HH3_alkene_trans_disubstituted" else rule
+            alkene = _alkene_value(mol, path, base)
             if alkene is not None:
-                value, rule = alkene, rule + "_hetero"
+                value, rule = alkene, base + "_hetero"
         j = value * _gamma_scale(mol, a, b)
         if best is None or abs(j) > abs(best[0]) or (abs(j) == abs(best[0]) and rule < best[1]):
             best = (j, rule)

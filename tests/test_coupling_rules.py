@@ -186,3 +186,31 @@ def test_dichloroethylenes_and_difluoroethylene_stay_within_calibration():
     gem = [c.j_hz for c in r.couplings if c.n_bonds == 2 and
            all(r.mol.GetAtomWithIdx(a).GetAtomicNum() == 1 for a in c.atoms)]
     assert len(gem) == 1 and abs(abs(gem[0]) - 4.7) <= 2.0
+
+
+@pytest.mark.parametrize("smiles,p1,p2,lo,hi,opts", [
+    # diazines and 1,3-/1,2-azoles (Pretsch H-H tables, recalled from memory): pyrazine J23 2-3,
+    # pyrimidine J45 about 5, pyridazine J34 about 5 and J45 about 8, imidazole J45 about 1, thiazole J45 3.2
+    ("Cc1cnccn1", 4, 5, 2.0, 3.0, {}),        # 2-methylpyrazine H5-H6
+    ("c1cncnc1", 0, 1, 4.5, 5.5, {}),         # pyrimidine H4-H5 (C0 = C5)
+    ("c1ccnnc1", 1, 2, 4.5, 5.5, {}),         # pyridazine H3-H4
+    ("c1ccnnc1", 0, 1, 7.5, 9.0, {}),         # pyridazine H4-H5
+    ("Cn1ccnc1", 2, 3, 0.8, 1.8, {}),         # 1-methylimidazole H4-H5
+    ("c1cscn1", 0, 1, 2.9, 3.6, {}),          # thiazole H4-H5
+    # aldehydes (Pretsch H-H, recalled from memory): acetaldehyde 2.9; propanal 1.4; enal =CH-CHO 7-8
+    ("CC=O", 0, 1, 2.5, 3.2, {}),
+    ("CCC=O", 1, 2, 1.0, 2.0, {}),
+    ("C/C=C/C=O", 2, 3, 7.0, 8.5, {}),        # crotonaldehyde CHO-H2 7.8
+    ("C/C=C/C=O", 1, 2, 15.0, 16.5, {}),      # crotonaldehyde trans H2-H3 15.6
+    # propargylic 4J and homopropargylic 5J (Günther ch. 4, recalled): 1-hexyne 2.6, 2-butyne 2.7
+    ("C#CCCCC", 0, 2, 2.2, 3.0, {}),
+    ("CC#CC", 0, 3, 2.2, 3.2, {}),
+    # H-N-C-H (Pretsch H-H, recalled): N-methylacetamide 4.8; peptide NH-Halpha 6-9.5
+    ("CNC(C)=O", 0, 1, 4.5, 5.2, {}),
+    ("CC(=O)N[C@@H](C)C(=O)OC", 3, 4, 6.0, 9.5, {}),
+    # H-C-O-H without exchange (ethanol in DMSO-d6: CH2 dq, 3J(CH2,OH) about 5 Hz; recalled)
+    ("CCO", 1, 2, 4.0, 6.0, {"labile_coupled": True}),
+])
+def test_ring_and_chain_rules_beyond_benzene(smiles, p1, p2, lo, hi, opts):
+    js = _j(smiles, p1, p2, **opts)
+    assert js and all(lo <= abs(j) <= hi for j in js), js

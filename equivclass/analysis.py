@@ -19,7 +19,7 @@ from .notation import SetSpec, components, label_fragments
 from .nuclei import active_nuclei
 from .options import Options, make_options
 from .report import CouplingResult, FragmentResult, Report, SetResult, WitnessResult
-from .stereo import configuration, is_metal, stereoisomers, with_conformer
+from .stereo import configuration, is_metal, isomeric_smiles, stereoisomers, with_conformer
 from .structure import Structure, read_structure
 from .symmetry import SymmetryTooComplex, build_graph, orbits, pair_classes
 from . import karplus, listing, multiplets
@@ -58,11 +58,11 @@ def _as_structure(structure, opts: Options, name) -> Structure:
 def _stereo_warnings(choice, opts) -> tuple[str, ...]:
     if len(choice.isomers) <= 1:
         if choice.unspecified:
-            return tuple(choice.notes) + (f"unspecified {', '.join(choice.unspecified)}: the stereoisomers "
-                                          f"are enantiomers, alike in an achiral medium",)
+            return tuple(choice.notes) + (f"unspecified {', '.join(choice.unspecified)}: every choice gives "
+                                          f"the same compound or its mirror image, alike in an achiral medium",)
         return tuple(choice.notes)
     return tuple(choice.notes) + (f"unspecified {', '.join(choice.unspecified)}: analysed stereoisomer {opts.stereoisomer} "
-            f"({Chem.MolToSmiles(Chem.RemoveHs(choice.isomers[opts.stereoisomer], sanitize=False))}) "
+            f"({isomeric_smiles(choice.isomers[opts.stereoisomer])}) "
             f"of {len(choice.isomers)}; ask for each stereoisomer to see the others",)
 
 
@@ -159,7 +159,7 @@ def _analyze_isomer(st: Structure, mol: Chem.Mol, opts: Options, warnings: tuple
                       for fi, f in enumerate(frags))
     label = " + ".join(f.label for f in fragments)
     label_ascii = " + ".join(f.label_ascii for f in fragments)
-    smiles = Chem.MolToSmiles(Chem.RemoveHs(mol, sanitize=False))
+    smiles = isomeric_smiles(mol)
     report = Report(
         name=st.name, input=st.input_text, smiles=smiles, mhz=opts.mhz,
         nuclei=tuple(dict.fromkeys([*opts.nuclei, *(n.isotope.symbol for n in nuclei if n.labelled)])), label=label, label_ascii=label_ascii, fragments=fragments,

@@ -280,15 +280,32 @@ def _describe(mol: Chem.Mol, si) -> str:
            f"{bond.GetEndAtom().GetSymbol()}{bond.GetEndAtomIdx()}"
 
 
+def isomeric_smiles(mol: Chem.Mol) -> str:
+    """Canonical isomeric SMILES without explicit H. Stereo is perceived again first, so that
+    double-bond geometry set as cis/trans on the bond is written (it is not written otherwise)."""
+    m = Chem.RemoveHs(mol, sanitize=False)
+    Chem.AssignStereochemistry(m, cleanIt=False, force=True)
+    return Chem.MolToSmiles(m)
+
+
 def _mirror_key(iso: Chem.Mol) -> str:
-    m = Chem.RemoveHs(iso, sanitize=False)
+    m = Chem.Mol(iso)
     for a in m.GetAtoms():
         tag = a.GetChiralTag()
         if tag == Chem.ChiralType.CHI_TETRAHEDRAL_CW:
             a.SetChiralTag(Chem.ChiralType.CHI_TETRAHEDRAL_CCW)
         elif tag == Chem.ChiralType.CHI_TETRAHEDRAL_CCW:
             a.SetChiralTag(Chem.ChiralType.CHI_TETRAHEDRAL_CW)
-    return Chem.MolToSmiles(m)
+    return isomeric_smiles(m)
+
+
+def _larger(mol: Chem.Mol, candidates) -> int:
+    """The bulkier of a double-bond end's substituents (heavier atom, then more heavy neighbours), so
+    that "trans" of the two chosen atoms is the usual E-like geometry."""
+    real = [i for i in candidates if 0 <= i < mol.GetNumAtoms()]
+    return max(real, key=lambda i: (mol.GetAtomWithIdx(i).GetAtomicNum(),
+                                    sum(1 for n in mol.GetAtomWithIdx(i).GetNeighbors()
+                                        if n.GetAtomicNum() > 1), -i))
 
 
 def stereoisomers(mol: Chem.Mol, limit: int = MAX_STEREOISOMERS,
@@ -332,9 +349,9 @@ def stereoisomers(mol: Chem.Mol, limit: int = MAX_STEREOISOMERS,
             else:
                 bond = iso.GetBondWithIdx(si.centeredOn)
                 ca = list(si.controllingAtoms)
-                bond.SetStereoAtoms(ca[0], ca[2])
-                bond.SetStereo(Chem.BondStereo.STEREOTRANS if bit else Chem.BondStereo.STEREOCIS)
-        key = Chem.MolToSmiles(Chem.RemoveHs(iso, sanitize=False))
+                bond.SetStereoAtoms(_larger(iso, ca[:2]), _larger(iso, ca[2:]))
+                bond.SetStereo(Chem.BondStereo.STEREOCIS if bit else Chem.BondStereo.STEREOTRANS)
+        key = isomeric_smiles(iso)
         if key in seen:
             continue
         seen.add(key)

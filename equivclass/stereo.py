@@ -58,6 +58,8 @@ def _is_tetrahedral_centre(atom: Chem.Atom) -> bool:
         return all(b.GetBondType() != Chem.BondType.TRIPLE for b in atom.GetBonds()) and \
             sum(1 for b in atom.GetBonds() if b.GetBondType() == Chem.BondType.DOUBLE) <= 2 and \
             (z != 6 or all(b.GetBondType() == Chem.BondType.SINGLE for b in atom.GetBonds()))
+    if deg == 3 and z == 7:
+        return _bridgehead_amine(atom)
     if deg == 3 and z in _LONE_PAIR_PYRAMIDAL:
         for b in atom.GetBonds():
             if b.GetBondType() == Chem.BondType.DOUBLE:
@@ -68,6 +70,18 @@ def _is_tetrahedral_centre(atom: Chem.Atom) -> bool:
                 return False
         return atom.GetFormalCharge() >= 0 and (z != 15 or atom.GetFormalCharge() == 0)
     return False
+
+
+def _bridgehead_amine(atom: Chem.Atom) -> bool:
+    """A neutral three-coordinate N at the bridgehead of a bridged ring system (two rings through it
+    sharing three or more atoms, e.g. Tröger's base) cannot invert, so its configuration is fixed
+    (common practice; quinuclidine-type N is fixed but usually symmetric)."""
+    if atom.GetFormalCharge() != 0 or any(b.GetBondType() != Chem.BondType.SINGLE or not b.IsInRing()
+                                          for b in atom.GetBonds()):
+        return False   # a bridgehead has all three bonds in rings (the one-atom N bridge of tropane inverts)
+    idx = atom.GetIdx()
+    rings = [set(r) for r in atom.GetOwningMol().GetRingInfo().AtomRings() if idx in r]
+    return any(len(r1 & r2) >= 3 for i, r1 in enumerate(rings) for r2 in rings[i + 1:])
 
 
 def _amide_bond(bond: Chem.Bond) -> tuple[int, int] | None:

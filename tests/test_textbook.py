@@ -381,6 +381,14 @@ CASES = [
          options=C13, sizes={"13C": [6]}, faces=(1, 1, 1, 1, 1, 1)),
     Case("myo-inositol-13C", "O[C@@H]1[C@H](O)[C@H](O)[C@@H](O)[C@H](O)[C@H]1O", "Eliel-Wilen ch. 11; SWK ch. 4",
          options=C13, sizes={"13C": [2, 2, 1, 1]}, faces=(1, 1, 1, -1, 1, -1)),
+    # Tröger's base: the bridgehead N cannot invert, so the molecule is chiral (C2) and each ArCH2N
+    # group's two H are diastereotopic (an AB pair of doublets); N-CH2-N lies on the C2 axis, its H
+    # homotopic (Eliel-Wilen ch. 8; the classic resolved chiral amine; recalled from memory)
+    Case("troeger-base", "Cc1ccc2N3Cc4cc(C)ccc4N(C3)Cc2c1", "Eliel-Wilen ch. 8",
+         sizes={"1H": [6, 2, 2, 2, 2, 2, 2]}, split=((6, "diastereotopic"), (16, "diastereotopic")),
+         together=(H(15),)),
+    # DABCO: D3h, all twelve H alike (common practice)
+    Case("dabco", "C1CN2CCN1CC2", "common practice", sizes={"1H": [12]}),
 ]
 
 

@@ -386,7 +386,7 @@ CASES = [
     # homotopic (Eliel-Wilen ch. 8; the classic resolved chiral amine; recalled from memory)
     Case("troeger-base", "Cc1ccc2N3Cc4cc(C)ccc4N(C3)Cc2c1", "Eliel-Wilen ch. 8",
          sizes={"1H": [6, 2, 2, 2, 2, 2, 2]}, split=((6, "diastereotopic"), (16, "diastereotopic")),
-         together=(H(15),)),
+         within=((H(15), "homotopic"),)),
     # DABCO: D3h, all twelve H alike (common practice)
     Case("dabco", "C1CN2CCN1CC2", "common practice", sizes={"1H": [12]}),
 ]

@@ -72,6 +72,29 @@ def _is_tetrahedral_centre(atom: Chem.Atom) -> bool:
     return False
 
 
+def allene_axes(mol: Chem.Mol) -> list[int]:
+    """Central atoms of the stereogenic-capable allene axes of the molecule."""
+    return [a.GetIdx() for a in atom_list(mol) if _allene_axis(a) is not None]
+
+
+def _allene_axis(atom: Chem.Atom) -> tuple[int, ...] | None:
+    """The four substituents (a1, a2, b1, b2) of an allene a1a2C=C=Cb1b2 centred on `atom`, or None.
+    Their tetrahedral arrangement is the axial configuration, fixed like a stereocentre's
+    (Eliel-Wilen ch. 14: axial chirality of allenes)."""
+    if atom.GetAtomicNum() != 6 or atom.GetDegree() != 2 or \
+            any(b.GetBondType() != Chem.BondType.DOUBLE for b in atom.GetBonds()):
+        return None
+    subs = []
+    for end in atom.GetNeighbors():
+        if end.GetAtomicNum() != 6 or _is_linear(end):
+            return None
+        s = [n.GetIdx() for n in end.GetNeighbors() if n.GetIdx() != atom.GetIdx()]
+        if len(s) != 2:
+            return None
+        subs.extend(s)
+    return tuple(subs)
+
+
 def _bridgehead_amine(atom: Chem.Atom) -> bool:
     """A neutral three-coordinate N at the bridgehead of a bridged ring system (two rings through it
     sharing three or more atoms, e.g. Tröger's base) cannot invert, so its configuration is fixed
@@ -146,6 +169,11 @@ def configuration(mol: Chem.Mol, amide_rotation_fast: bool = False) -> Configura
         else:
             parity = -1 if atom.GetChiralTag() == Chem.ChiralType.CHI_TETRAHEDRAL_CW else 1
         centres.append(Centre(idx, nbrs, parity))
+    for atom in atom_list(mol):
+        axis = _allene_axis(atom)
+        if axis is not None:
+            parity = _signed_volume(coords, atom.GetIdx(), axis) if coords is not None else 1
+            centres.append(Centre(atom.GetIdx(), axis, parity))
     planar = []
     for bond in bond_list(mol):
         a, b = bond.GetBeginAtomIdx(), bond.GetEndAtomIdx()
@@ -280,9 +308,22 @@ class StereoChoice:
 
 
 def unspecified_elements(mol: Chem.Mol) -> list:
-    return [si for si in Chem.FindPotentialStereo(mol)
-            if si.specified == Chem.StereoSpecified.Unspecified and
-            si.type in (Chem.StereoType.Atom_Tetrahedral, Chem.StereoType.Bond_Double)]
+    return [si for si in stereo_elements(mol) if si.specified == Chem.StereoSpecified.Unspecified]
+
+
+def stereo_elements(mol: Chem.Mol) -> list:
+    """RDKit's potential tetrahedral centres and cis/trans double bonds; the cumulated bonds of an
+    allene are not cis/trans elements (the axis is read by `configuration`)."""
+    out = []
+    for si in Chem.FindPotentialStereo(mol):
+        if si.type == Chem.StereoType.Bond_Double:
+            bond = mol.GetBondWithIdx(si.centeredOn)
+            if _is_linear(bond.GetBeginAtom()) or _is_linear(bond.GetEndAtom()):
+                continue
+        elif si.type != Chem.StereoType.Atom_Tetrahedral:
+            continue
+        out.append(si)
+    return out
 
 
 def _describe(mol: Chem.Mol, si) -> str:

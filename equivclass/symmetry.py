@@ -37,7 +37,7 @@ class Graph:
     colour: tuple[int, ...]
     heavy: tuple[bool, ...]
     centres: dict              # atom -> (nbrs, parity)
-    centres_at: tuple[tuple[int, ...], ...]  # atom -> centres among itself and its neighbours
+    centres_at: tuple[tuple[int, ...], ...]  # atom -> centres it is, or is a listed neighbour of
     planar: dict               # frozenset({a, b}) -> PlanarBond
     planar_at: tuple[tuple, ...]             # atom -> planar-bond keys touching it or its subs
     has_centres: bool
@@ -99,7 +99,11 @@ def build_graph(mol: Chem.Mol, config: Configuration, budget: int = DEFAULT_STEP
         bond_label[frozenset((i, j))] = lab
     colour = refine(labels, nbrs, bond_label)
     centres = {c.atom: (c.nbrs, c.parity) for c in config.centres}
-    centres_at = tuple(tuple(c for c in [i, *nbrs[i]] if c in centres) for i in range(n))
+    at_lists = [[] for _ in range(n)]
+    for c, (cn, _) in centres.items():
+        for x in (c, *cn):          # the centre and the atoms whose images decide its parity
+            at_lists[x].append(c)
+    centres_at = tuple(tuple(sorted(set(x))) for x in at_lists)
     planar = {frozenset((p.a, p.b)): p for p in config.planar}
     planar_at_lists = [[] for _ in range(n)]
     for key, p in planar.items():
@@ -304,7 +308,7 @@ def _twin_shortcut(g: Graph, fixed: dict[int, int], sign: int):
         c = spare[0]
         img[a], img[b], img[c] = b, c, a
         return tuple(img)
-    if parent in g.centres or g.planar_at[a]:
+    if g.centres_at[a] or g.planar_at[a]:
         return None
     if sign == 1:
         img[a], img[b] = b, a

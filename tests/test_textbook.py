@@ -389,6 +389,12 @@ CASES = [
          within=((H(15), "homotopic"),)),
     # DABCO: D3h, all twelve H alike (common practice)
     Case("dabco", "C1CN2CCN1CC2", "common practice", sizes={"1H": [12]}),
+    # 1,3-disubstituted allenes are axially chiral (Eliel-Wilen ch. 14; recalled from memory), so the
+    # isopropyl methyls of 2-methylhexa-3,4-diene and the CH2 protons of hexa-2,3-diene are
+    # diastereotopic; in 3-chlorobuta-1,2-diene (Cs) the =CH2 protons are enantiotopic
+    Case("allene-isopropyl", "CC(C)C=C=CC", "Eliel-Wilen ch. 14", pairs=((H(0), H(2), "diastereotopic"),)),
+    Case("allene-ethyl", "CCC=C=CC", "Eliel-Wilen ch. 14", split=((1, "diastereotopic"),)),
+    Case("allene-ch2", "C=C=C(C)Cl", "Eliel-Wilen ch. 14", within=((H(0), "enantiotopic"),)),
 ]
 
 

@@ -157,7 +157,7 @@ def _analyze_isomer(st: Structure, mol: Chem.Mol, opts: Options, warnings: tuple
             exchange_decoupled=all(a in labile for a in members), dilute=nuc.dilute,
             couplings=set_couplings))
     fragments = tuple(FragmentResult(fi, f.label, f.label_ascii, f.copies, f.sets, f.first_order_above_mhz,
-                                     f.magnetically_inequivalent, f.strongly_coupled_pairs)
+                                     f.magnetically_inequivalent, f.strongly_coupled_pairs, f.subsets_coupled)
                       for fi, f in enumerate(frags))
     label = " + ".join(f.label for f in fragments)
     label_ascii = " + ".join(f.label_ascii for f in fragments)

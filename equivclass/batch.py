@@ -195,8 +195,8 @@ def second_order(fragment: dict, mhz: float) -> bool:
     """A fragment needs simulation at `mhz` when magnetically inequivalent, strongly coupled, or first
     order only above the field (|Δν| < 10·|J|, DESIGN.md §3); null `first_order_above_mhz` means never."""
     above = fragment["first_order_above_mhz"]
-    return bool(fragment["magnetically_inequivalent"] or fragment["strongly_coupled"]
-                or above is None or above > mhz)
+    visible = fragment.get("subsets_coupled", fragment["magnetically_inequivalent"])
+    return bool(visible or fragment["strongly_coupled"] or above is None or above > mhz)
 
 
 def properties(report: dict, mhz: float) -> dict:

@@ -288,6 +288,7 @@ def annotate(report_dict: dict, mol) -> dict[int, Multiplet]:
         if c.get("j_hz"):
             neighbours.setdefault(a, []).append((b, float(c["j_hz"])))
             neighbours.setdefault(b, []).append((a, float(c["j_hz"])))
+    coupled_subsets = _sets_with_coupled_subsets(sets, couplings)
     strong: set[frozenset[int]] = set()
     for f in fragments:
         for pair in f.get("strongly_coupled", []) or []:
@@ -308,7 +309,7 @@ def annotate(report_dict: dict, mol) -> dict[int, Multiplet]:
         apparent: list[str] = []
         own_subsets = [sub for sub in s.get("magnetic_subsets", [atoms])
                        if any(comp[a] == comp[r] for a in sub)]
-        if len(own_subsets) > 1:
+        if len(own_subsets) > 1 and idx in coupled_subsets:
             why = f"magnetically inequivalent: the set splits into {len(own_subsets)} subsets"
             wit = s.get("witnesses") or []
             if wit and wit[0].get("reason"):
@@ -329,11 +330,12 @@ def annotate(report_dict: dict, mol) -> dict[int, Multiplet]:
             subsets = [sub for sub in ps.get("magnetic_subsets", [ps["atoms"]])
                        if any(b in sub for b, _ in hits)]
             js = {round(abs(j), 3) for _, j in hits}
-            if max(js) - min(js) > 1e-3:
+            linked = p in coupled_subsets   # the partner's subsets couple to one another
+            if max(js) - min(js) > 1e-3 and linked:
                 reasons.append(f"partner {_letter(sets, p)} is magnetically inequivalent with respect to "
                                f"atom {r} (couples through {len(subsets)} subsets)")
                 continue
-            if len(subsets) > 1:
+            if len(subsets) > 1 and linked:
                 apparent.append(f"partner {_letter(sets, p)} couples to atom {r} through {len(subsets)} "
                                 f"magnetic subsets with equal estimated J")
             if ps["isotope"] == observed and frozenset((idx, p)) in strong:
@@ -342,7 +344,10 @@ def annotate(report_dict: dict, mol) -> dict[int, Multiplet]:
             spin = nucdata.isotope(ps["isotope"]).spin
             if spin == 0:
                 continue
-            groups.append((abs(hits[0][1]), spin, len(hits)))
+            by_j: dict[float, int] = {}
+            for _, j in hits:   # uncoupled subsets: each distinct J splits on its own (first order)
+                by_j[round(abs(j), 3)] = by_j.get(round(abs(j), 3), 0) + 1
+            groups.extend((j, spin, n) for j, n in sorted(by_j.items(), reverse=True))
         plist = sorted(partners)
         for i, p in enumerate(plist):
             for q in plist[i + 1:]:
@@ -373,6 +378,23 @@ def annotate(report_dict: dict, mol) -> dict[int, Multiplet]:
                                  apparent=name)
             continue
         out[idx] = Multiplet(integral, name, j_list, main, _satellites(mol, r, observed, main), reason)
+    return out
+
+
+def _sets_with_coupled_subsets(sets, couplings) -> set[int]:
+    """Indices of the sets two of whose magnetic subsets are joined by a non-zero J: only there does the
+    inequivalence show (uncoupled isochronous subsets give first-order patterns)."""
+    subset_of = {}
+    for s in sets:
+        for k, sub in enumerate(s.get("magnetic_subsets") or [s["atoms"]]):
+            for a in sub:
+                subset_of[a] = (s["index"], k)
+    out = set()
+    for c in couplings:
+        a, b = c["atoms"]
+        sa, sb = subset_of.get(a), subset_of.get(b)
+        if c.get("j_hz") and sa and sb and sa[0] == sb[0] and sa[1] != sb[1]:
+            out.add(sa[0])
     return out
 
 

@@ -40,6 +40,7 @@ class FragmentLabel:
     first_order_above_mhz: float | None
     magnetically_inequivalent: bool
     strongly_coupled_pairs: tuple
+    subsets_coupled: bool = False      # a non-zero J joins two magnetic subsets of one set
 
 
 def _connected(atoms, couplings, groups) -> list[set]:
@@ -226,7 +227,26 @@ def _label_one(sets, sig, comp, copies, jmax, couplings, atom_set, mhz) -> Fragm
             label, label_ascii = composite
     if copies > 1:
         label, label_ascii = f"{copies} × {label}", f"{copies}x{label_ascii}"
-    first_order = None if (inequivalent or never_first_order) else round(threshold, 1)
+    coupled = inequivalent and subsets_coupled(sets, sig, comp_set, couplings)
+    first_order = None if (coupled or never_first_order) else round(threshold, 1)
     ordered = tuple(i for c in clusters for i in c)
     return FragmentLabel(ordered, copies, tuple(sorted(comp)), letters, label, label_ascii,
-                         first_order, inequivalent, tuple(strong_pairs))
+                         first_order, inequivalent, tuple(strong_pairs), coupled)
+
+
+def subsets_coupled(sets, sig, comp_set, couplings) -> bool:
+    """True when a non-zero J joins nuclei of two different magnetic subsets of one set. Only then does
+    magnetic inequivalence show in the spectrum: isochronous nuclei that do not couple to one another
+    give first-order patterns once all other couplings are weak ([A3M2]3X of Et3PO is three ethyl
+    patterns; Günther ch. 5, AA'XX' analysis, recalled from memory)."""
+    subset_of = {}
+    for i in sig:
+        for k, sub in enumerate(sets[i].subsets):
+            for a in sub:
+                if a in comp_set:
+                    subset_of[a] = (i, k)
+    for c in couplings:
+        sa, sb = subset_of.get(c.a), subset_of.get(c.b)
+        if sa and sb and sa[0] == sb[0] and sa[1] != sb[1] and c.j_hz:
+            return True
+    return False

@@ -58,6 +58,7 @@ class FragmentResult:
     first_order_above_mhz: float | None
     magnetically_inequivalent: bool
     strongly_coupled: tuple = ()
+    subsets_coupled: bool = False
 
 
 @dataclass(frozen=True)
@@ -91,6 +92,7 @@ class Report:
                 "label": f.label_ascii, "label_unicode": f.label, "copies": f.copies, "sets": list(f.sets),
                 "first_order_above_mhz": f.first_order_above_mhz,
                 "magnetically_inequivalent": f.magnetically_inequivalent,
+                "subsets_coupled": f.subsets_coupled,
                 "strongly_coupled": [list(p) for p in f.strongly_coupled],
             } for f in self.fragments],
             "sets": [{
@@ -177,8 +179,15 @@ def _set_letters(s: SetResult, fragments) -> str:
 
 def first_order_sentence(f: FragmentResult, mhz: float) -> str:
     """One sentence on whether the fragment is first order at this field."""
-    if f.magnetically_inequivalent:
+    if f.magnetically_inequivalent and f.subsets_coupled:
         return "magnetically inequivalent: second order at any field; simulate it."
+    if f.magnetically_inequivalent:
+        return ("magnetically inequivalent, but its magnetic subsets do not couple to one another, so the "
+                "inequivalence does not show; " + _plain_first_order(f, mhz))
+    return _plain_first_order(f, mhz)
+
+
+def _plain_first_order(f: FragmentResult, mhz: float) -> str:
     if f.first_order_above_mhz is None:
         return ("coupled sets have equal estimated shifts (e.g. a diastereotopic pair whose real difference "
                 "the estimate cannot give): strongly coupled as estimated; the first-order field is unknown.")

@@ -16,6 +16,7 @@ import pytest
 from numpy.polynomial import polynomial as P
 
 import equivclass
+from rdkit import Chem
 from equivclass.multiplets import Multiplet, annotate, first_order_lines, multiplicity_name, spin_pattern
 
 
@@ -188,3 +189,33 @@ def test_multiplet_record_is_frozen():
     assert isinstance(x, Multiplet)
     with pytest.raises(Exception):
         x.multiplicity = "s"
+
+
+@pytest.mark.parametrize("smiles, heavy, multiplicity", [
+    # Et3PO: CH3 dt (3J(P,H) about 17-20 Hz, 3J(H,H) about 7.5 Hz), CH2 dq (Pretsch 1H/31P tables and
+    # SDBS-type spectra, recalled from memory). The three ethyl groups do not couple to one another, so
+    # their magnetic inequivalence ([A3M2]3X) does not show (Günther ch. 5: only couplings between the
+    # inequivalent nuclei, J(AA'), make an AA'XX'-type pattern second order).
+    ("CCP(=O)(CC)CC", 0, "dt"),
+    ("CCP(=O)(CC)CC", 1, "dq"),
+    # triethyl phosphate: CH3 td (3J(H,H) 7.1, 4J(P,H) about 1 Hz; recalled from memory)
+    ("CCOP(=O)(OCC)OCC", 0, "td"),
+    # 3-pentanol: the two methyls are magnetically inequivalent but uncoupled: a triplet (common practice)
+    ("CCC(O)CC", 0, "t"),
+])
+def test_uncoupled_magnetic_subsets_give_first_order_patterns(smiles, heavy, multiplicity):
+    d = equivclass.analyze(smiles).to_dict()
+    mol = Chem.AddHs(Chem.MolFromSmiles(smiles))
+    hs = {n.GetIdx() for n in mol.GetAtomWithIdx(heavy).GetNeighbors() if n.GetAtomicNum() == 1}
+    s = next(s for s in d["sets"] if hs & set(s["atoms"]))
+    assert s["multiplicity"] == multiplicity, (s["multiplicity"], s.get("reason"))
+    frag = d["fragments"][s["fragment"]]
+    assert frag["magnetically_inequivalent"] and not frag["subsets_coupled"]
+
+
+def test_coupled_magnetic_subsets_stay_second_order():
+    """1-bromo-2-chloroethane is AA'XX' (Günther ch. 5): the geminal coupling joins the two magnetic
+    subsets of each CH2, so no first-order field exists."""
+    d = equivclass.analyze("ClCCBr").to_dict()
+    frag = d["fragments"][0]
+    assert frag["subsets_coupled"] and frag["first_order_above_mhz"] is None

@@ -371,9 +371,8 @@ def annotate(report_dict: dict, mol) -> dict[int, Multiplet]:
         if name == "m":
             reason = f"first-order pattern of {len(main)} lines has no short name"
         elif apparent:
-            reason = (f"magnetically inequivalent, so strictly second order; the estimated couplings are "
-                      f"equal, so it appears as a {name} (deceptively simple); simulate to see the fine "
-                      f"structure")
+            reason = (f"strictly second order ({apparent[0]}); the estimated couplings are equal, so it "
+                      f"appears as a {name} (deceptively simple); simulate to see the fine structure")
             out[idx] = Multiplet(integral, "m", j_list, main, _satellites(mol, r, observed, main), reason,
                                  apparent=name)
             continue

@@ -67,12 +67,13 @@ def components(sets: list[SetSpec], couplings) -> list[frozenset]:
 
 
 def prime_text(k: int, table=PRIMES) -> str:
-    """k primes: ′ ″ ‴ ⁗, then one prime with the count as a superscript (A′⁵); ASCII: A'5."""
+    """k primes: ′ ″ ‴ ⁗, then the count in parentheses (A⁽⁵⁾), never a bare digit that would read as a
+    nucleus count; ASCII: ' '' ' then (5)."""
     if k < len(table):
         return table[k]
     if table is PRIMES:
-        return table[1] + str(k).translate(str.maketrans("0123456789", "⁰¹²³⁴⁵⁶⁷⁸⁹"))
-    return table[1] + str(k)
+        return "⁽" + str(k).translate(str.maketrans("0123456789", "⁰¹²³⁴⁵⁶⁷⁸⁹")) + "⁾"
+    return f"({k})"
 
 
 def _letter_starts(sizes: list[int]) -> list[int]:
@@ -104,7 +105,13 @@ def _letter_starts(sizes: list[int]) -> list[int]:
 
 
 def _letter(index: int) -> str:
-    return chr(ord("A") + index) if index < 26 else f"Z{index - 25}"
+    """A…Z, then a…z for the 27th to 52nd set of one fragment (a digit after a letter means a count),
+    then Z with the position in parentheses."""
+    if index < 26:
+        return chr(ord("A") + index)
+    if index < 52:
+        return chr(ord("a") + index - 26)
+    return f"Z({index + 1})"
 
 
 def label_fragments(sets: list[SetSpec], couplings, mhz: float) -> list[FragmentLabel]:
@@ -188,6 +195,7 @@ def _label_one(sets, sig, comp, copies, jmax, couplings, atom_set, mhz) -> Fragm
             else:
                 threshold = max(threshold, STRONG_RATIO * jv / (dppm * freq[i]))
     # clusters of strongly coupled sets (same isotope only)
+    strong_pairs_letters = []
     cluster_of = {i: i for i in order}
 
     def find(x):
@@ -195,7 +203,12 @@ def _label_one(sets, sig, comp, copies, jmax, couplings, atom_set, mhz) -> Fragm
             x = cluster_of[x]
         return x
 
-    for i, j in strong_pairs:
+    for x, i in enumerate(order):   # isochronous sets of one isotope take adjacent letters too
+        for j in order[x + 1:]:
+            if sets[i].isotope.symbol == sets[j].isotope.symbol and \
+                    abs(sets[i].shift_ppm - sets[j].shift_ppm) < 0.005 and (i, j) not in strong_pairs:
+                strong_pairs_letters.append((i, j))
+    for i, j in strong_pairs + strong_pairs_letters:
         ri, rj = find(i), find(j)
         if ri != rj:
             cluster_of[max(ri, rj, key=order.index)] = min(ri, rj, key=order.index)

@@ -75,6 +75,7 @@ _H_MULTI = {(r["kind"], r["groups"], r["other"], r["ring"]): (float(r["shift_ppm
             for r in _rows("shifts_1h_polysubstituted.csv")}
 _H_SHOOLERY = {r["group"]: float(r["sigma"]) for r in _rows("shifts_1h_shoolery.csv")}
 _H_METHINE_DAMP = {r["group"]: float(r["value"]) for r in _rows("shifts_1h_methine.csv") if r["rule"] == "damp"}
+_H_METHINE_DAMP_N = {r["group"]: float(r["value"]) for r in _rows("shifts_1h_methine.csv") if r["rule"] == "damp_n"}
 _H_METHINE_BETA_C = next(float(r["value"]) for r in _rows("shifts_1h_methine.csv") if r["rule"] == "beta_carbon")
 _F_BASE = {r["key"]: float(r["shift_ppm"]) for r in _rows("shifts_19f.csv")}
 _F_ARENE = {r["group"]: tuple(float(r[k]) if r[k] else None for k in ("ortho", "meta", "para"))
@@ -402,12 +403,12 @@ def _methine_corrections(mol, c, alphas) -> tuple[list[float], str] | None:
         return None
     carbon_type = [k for k in functional if k != hetero[0]]
     notes, out = [], [v for _, v, _ in alphas]
-    if hetero[0] in _METHINE_STRONG and carbon_type and \
-            all(_methine_class(k) in _H_METHINE_DAMP for k in carbon_type):
+    table = _H_METHINE_DAMP if hetero[0] in _METHINE_STRONG else _H_METHINE_DAMP_N
+    if carbon_type and all(_methine_class(k) in table for k in carbon_type):
         damped = []
         for i, (k, v, _) in enumerate(alphas):
             if k in carbon_type:
-                f = _H_METHINE_DAMP[_methine_class(k)]
+                f = table[_methine_class(k)]
                 out[i] = v * f
                 damped.append(f"{k} x{f:g}")
         notes.append(f"methine saturation beside {hetero[0]} ({', '.join(damped)})")
@@ -706,6 +707,8 @@ def _h_alkyne(mol, c, partner) -> ShiftEstimate:
         return _base("alkyne-aryl", "aryl-C#C-H base value")
     if g in ("C(O)R", "C(O)Ar", "CHO", "COOR", "COOH", "C(O)N"):
         return _base("alkyne-conj", "acyl-C#C-H base value")
+    if _is_sp3_carbon(far[0]) and any(n.GetAtomicNum() in (7, 8, 9, 17, 35, 53) for n in far[0].GetNeighbors()):
+        return _base("alkyne-propargyl-X", "propargylic X-C-C#C-H base value")
     return _base("alkyne-alkyl", "alkyl-C#C-H base value")
 
 

@@ -121,6 +121,11 @@ REFERENCE = [
     ("alkyl", "CCOC(=O)[CH:1](O)c1ccccc1", "1H", 5.17, "SDBS ethyl mandelate", None),
     ("alkyl", "C[CH:1](O)Cc1ccccc1", "1H", 4.03, "SDBS 1-phenyl-2-propanol", None),
     ("alkyl", "CCOC(=O)[CH:1](C)Cl", "1H", 4.39, "SDBS ethyl 2-chloropropanoate", None),
+    ("alkyl", "C[CH:1](N)C(=O)OC", "1H", 3.55, "SDBS alanine methyl ester, free base (calibration)", None),
+    ("alkyl", "CC(C)[CH:1](N)C(=O)OC", "1H", 3.30, "SDBS valine methyl ester, free base", None),
+    ("alkyl", "N[CH:1](Cc1ccccc1)C(=O)OC", "1H", 3.74, "SDBS phenylalanine methyl ester, free base", None),
+    ("alkyne", "[CH:1]#CCO", "1H", 2.50, "SDBS propargyl alcohol, alkyne H (calibration)", None),
+    ("alkyne", "[CH:1]#CCCCC", "1H", 1.94, "SDBS 1-hexyne (parent)", None),
     # ---------------------------------------------------------------- alkene 1H
     ("alkene", "C=[CH:1]c1ccccc1", "1H", 6.72, "SDBS styrene, H-alpha (parent)", None),
     ("alkene", "[CH2:1]=C[c:2]1ccccc1", "1H", 5.75, "SDBS styrene, H cis to Ph (parent)", "cis"),
@@ -274,7 +279,7 @@ REFERENCE = [
     ("31P", "F[P-:1](F)(F)(F)(F)F", "31P", -144.0, "KUHL hexafluorophosphate (parent)", None),
 ]
 
-CH_CLASSES = ("alkyl", "alkene", "aromatic", "heteroaromatic", "aldehyde")
+CH_CLASSES = ("alkyl", "alkene", "aromatic", "heteroaromatic", "aldehyde", "alkyne")
 # ppm, stated before measuring; "hydride" (H on P, Si, Sn, B) has a wide range per class
 BOUNDS = {"13C": 3.5, "19F": 2.0, "31P": 8.0, "labile": 1.0, "hydride": 0.5}
 

@@ -19,7 +19,7 @@ from .notation import SetSpec, components, label_fragments
 from .nuclei import active_nuclei
 from .options import Options, make_options
 from .report import CouplingResult, FragmentResult, Report, SetResult, WitnessResult
-from .stereo import (allene_axes, configuration, is_metal, isomeric_smiles, stereo_elements, stereoisomers,
+from .stereo import (allene_axes, configuration, hindered_biaryl_axes, is_metal, isomeric_smiles, stereo_elements, stereoisomers,
                      with_conformer)
 from .structure import Structure, read_structure
 from .symmetry import SymmetryTooComplex, build_graph, orbits, pair_classes
@@ -79,6 +79,10 @@ def _analyze_isomer(st: Structure, mol: Chem.Mol, opts: Options, warnings: tuple
                         "(ask for fast amide rotation to average)")
     _hypervalent_warning(mol, warnings)
     _allene_warning(st, mol, warnings)
+    for a, b, n in hindered_biaryl_axes(mol):
+        warnings.append(f"biaryl axis {a}–{b} has {n} ortho substituents: its rotation may be slow "
+                        f"(atropisomers); analysed as freely rotating, so groups that would be "
+                        f"diastereotopic in a fixed axis appear equivalent")
     graph = build_graph(mol, config)
     nuclei = active_nuclei(mol, opts.isotopes())
     if not nuclei:

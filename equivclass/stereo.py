@@ -72,6 +72,40 @@ def _is_tetrahedral_centre(atom: Chem.Atom) -> bool:
     return False
 
 
+ATROPISOMER_MIN_ORTHO = 3   # ortho substituents (fused rings included) from which a biaryl axis may be slow
+
+
+def hindered_biaryl_axes(mol: Chem.Mol) -> list[tuple[int, int, int]]:
+    """(a, b, n) for each single bond joining two aromatic rings whose ortho positions carry n ≥ 3 non-H
+    atoms (a fused ring counts as an ortho substituent): such axes may rotate slowly (atropisomers, as in
+    2,2'-disubstituted 1,1'-binaphthyls and 2,2',6,6'-tetrasubstituted biphenyls; Eliel-Wilen ch. 14)."""
+    out = []
+    for b in bond_list(mol):
+        if b.GetBondType() != Chem.BondType.SINGLE or b.IsInRing():
+            continue
+        a1, a2 = b.GetBeginAtom(), b.GetEndAtom()
+        if not (a1.GetIsAromatic() and a2.GetIsAromatic()):
+            continue
+        n = 0
+        for end, other in ((a1, a2), (a2, a1)):
+            for ortho in end.GetNeighbors():
+                if ortho.GetIdx() == other.GetIdx():
+                    continue
+                n += sum(1 for x in ortho.GetNeighbors()
+                         if x.GetIdx() != end.GetIdx() and x.GetAtomicNum() > 1 and
+                         not (x.GetIsAromatic() and x.IsInRing() and
+                              mol.GetBondBetweenAtoms(x.GetIdx(), ortho.GetIdx()).GetIsAromatic() and
+                              _same_ring(mol, x.GetIdx(), ortho.GetIdx(), end.GetIdx())))
+        if n >= ATROPISOMER_MIN_ORTHO:
+            out.append((a1.GetIdx(), a2.GetIdx(), n))
+    return out
+
+
+def _same_ring(mol: Chem.Mol, x: int, ortho: int, end: int) -> bool:
+    """True when x continues the ring that holds the axis atom `end` and its ortho atom (not a substituent)."""
+    return any(x in r and ortho in r and end in r for r in mol.GetRingInfo().AtomRings())
+
+
 def allene_axes(mol: Chem.Mol) -> list[int]:
     """Central atoms of the stereogenic-capable allene axes of the molecule."""
     return [a.GetIdx() for a in atom_list(mol) if _allene_axis(a) is not None]

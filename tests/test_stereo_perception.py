@@ -72,3 +72,17 @@ def test_dichlorobutadiene_has_three_geometric_isomers():
     reps = equivclass.analyze_each_stereoisomer("ClC=CC=CCl")
     sizes = sorted(tuple(sorted(len(s.atoms) for s in r.sets)) for r in reps)
     assert sizes == [(1, 1, 1, 1), (2, 2), (2, 2)]
+
+
+@pytest.mark.parametrize("smiles, warned", [
+    ("Oc1ccc2ccccc2c1-c1c(O)ccc2ccccc12", True),        # BINOL: configurationally stable axis
+    ("Cc1cccc(C)c1-c1c(C)cccc1C", True),               # 2,2',6,6'-tetramethylbiphenyl
+    ("c1ccc(cc1)-c1ccccc1", False),                     # biphenyl rotates fast
+    ("Cc1ccccc1-c1ccccc1C", False),                     # 2,2'-dimethylbiphenyl rotates at room temperature
+])
+def test_hindered_biaryl_axes_are_named(smiles, warned):
+    """Biaryls with three or four ortho substituents can be atropisomers (Eliel & Wilen 1994, ch. 14;
+    BINOL is resolved and stable at room temperature; recalled from memory). The model rotates every
+    single bond fast, so it must say so where the axis may be slow."""
+    d = equivclass.analyze(smiles).to_dict()
+    assert any("biaryl axis" in w for w in d["warnings"]) == warned, d["warnings"]

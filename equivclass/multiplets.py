@@ -362,7 +362,7 @@ def annotate(report_dict: dict, mol) -> dict[int, Multiplet]:
                                    f"to each other at {mhz:g} MHz")
         if reasons:
             main = ((0.0, 1.0),)
-            out[idx] = Multiplet(integral, "m", (), main, (), "; ".join(dict.fromkeys(reasons)))
+            out[idx] = Multiplet(integral, "m", (), main, (), "; ".join(dict.fromkeys(reasons + apparent)))
             continue
         main = first_order_lines(groups)
         name = multiplicity_name(groups)

@@ -55,6 +55,7 @@ def _num(s: str | None) -> float | None:
 
 _H_ALKYL = {r["group"]: (float(r["alpha_ch3"]), float(r["alpha_ch2"]), float(r["alpha_ch"]),
                          float(r["beta"])) for r in _rows("shifts_1h_alkyl.csv")}
+_H_BETA = {r["group"]: float(r["beta_ch2"]) for r in _rows("shifts_1h_beta.csv")}
 _H_ALKENE = {r["group"]: (float(r["gem"]), float(r["cis"]), float(r["trans"]))
              for r in _rows("shifts_1h_alkene.csv")}
 _H_BENZENE = {r["group"]: (float(r["ortho"]), float(r["meta"]), float(r["para"]))
@@ -340,6 +341,7 @@ def _h_sp3(mol, c) -> ShiftEstimate:
     col = {"CH3": 0, "CH2": 1, "CH": 2}[kind]
     terms: list[float] = [_H_BASE[kind]]
     alphas: list[tuple[str, float, object]] = []
+    betas: list[tuple[str, float]] = []
     beta_names: list[str] = []
     missing: list[str] = []
     for a in heavy:
@@ -360,8 +362,13 @@ def _h_sp3(mol, c) -> ShiftEstimate:
                     missing.append(gb)
                     continue
                 if kb != "alkyl":
-                    terms.append(rowb[3])
-                    beta_names.append(kb)
+                    betas.append((kb, rowb[3]))
+    functional_here = any(_lookup(_H_ALKYL, _group(mol, a, ci))[0] in _BETA_DAMPED_GROUPS for a in heavy)
+    for kb, v in betas:
+        if kind != "CH3":
+            v = _beta_smaller_carbon(kb, v, functional_here)
+        terms.append(v)
+        beta_names.append(kb)
     methine = _methine_corrections(mol, c, alphas) if kind == "CH" and not missing else None
     alpha_names = [k for k, _, _ in alphas if k != "alkyl"]
     if methine is None:
@@ -382,6 +389,19 @@ def _h_sp3(mol, c) -> ShiftEstimate:
     if methine is not None:
         note += "; " + methine[1]
     return ShiftEstimate(_sum(terms), f"{kind}: Shoolery-type increments ({detail}){ring}{note}")
+
+
+_BETA_DAMPED_GROUPS = {"OH", "OR", "OAr", "OC(O)R", "OC(O)Ar", "OP", "OS", "NR2", "NAr", "NC(O)R", "NO2",
+                       "F", "Cl", "Br", "I"}
+
+
+def _beta_smaller_carbon(key: str, ch3_value: float, functional_here: bool) -> float:
+    """Beta increment on a CH2 or CH (data/shifts_1h_beta.csv): the calibrated CH2 value, else the mean
+    ratio times the CH3 value; an O/N/halogen beta group beside a carbon that carries one itself adds
+    only the damped value."""
+    if functional_here and key in _BETA_DAMPED_GROUPS:
+        return _H_BETA["ON_FUNCTIONAL_CARBON"]
+    return _H_BETA.get(key, _H_BETA["RATIO"] * ch3_value)
 
 
 _METHINE_STRONG = {"OH", "OR", "OAr", "OC(O)R", "OC(O)Ar", "Cl", "Br", "I"}

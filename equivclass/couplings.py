@@ -208,6 +208,16 @@ def _classify_hh(mol, path, atoms, inner, nb, bond, planar):
         if c.GetAtomicNum() == 6 and c.GetHybridization() == Chem.HybridizationType.SP2:
             return "HH2_sp2"
         if c.GetAtomicNum() == 6:
+            ring_info = mol.GetRingInfo()
+            if ring_info.IsAtomInRingOfSize(c.GetIdx(), 5) and any(
+                    n.GetAtomicNum() == 8 and n.IsInRingSize(5) and
+                    any(c.GetIdx() in r and n.GetIdx() in r and len(r) == 5 for r in ring_info.AtomRings())
+                    for n in c.GetNeighbors()):
+                return "HH2_ring5_oxygen"
+            if any(n.GetAtomicNum() == 6 and (_is_carbonyl(n) or any(
+                    b.GetBondType() == Chem.BondType.TRIPLE and b.GetOtherAtom(n).GetAtomicNum() == 7
+                    for b in n.GetBonds())) for n in c.GetNeighbors()):
+                return "HH2_sp3_carbonyl"
             return "HH2_sp3"
         return "HH2_other"
     if nb == 3:
@@ -256,6 +266,12 @@ def _classify_hh(mol, path, atoms, inner, nb, bond, planar):
                     return "HH3_cho_methyl"
                 return "HH3_cho"
             if sp2:
+                ring = _endocyclic_alkene_ring(mol, c1, c2)
+                if ring:
+                    return f"HH3_allylic_ring{ring}"
+                sp3 = c2 if c1.GetHybridization() == Chem.HybridizationType.SP2 else c1
+                if any(n.GetAtomicNum() == 8 for n in sp3.GetNeighbors()):
+                    return "HH3_allylic_vicinal_oxygen"
                 return "HH3_allylic_vicinal"
             return "HH3_sp3"
         return "HH3_other"
@@ -331,6 +347,20 @@ def _two_hetero_ring_rule(mol: Chem.Mol, ring, pair) -> str | None:
         return None
     key = f"HH3_{name}_{loc[0]}{loc[1]}"
     return key if key in coupling_table() else None
+
+
+def _endocyclic_alkene_ring(mol: Chem.Mol, c1: Chem.Atom, c2: Chem.Atom) -> int | None:
+    """5 or 6 when the sp3–sp2 bond c1–c2 and the sp2 carbon's C=C lie in one ring of that size (the
+    allylic H–C–C=C dihedral is then fixed by the ring), else None."""
+    sp2 = c1 if c1.GetHybridization() == Chem.HybridizationType.SP2 else c2
+    double = next((b.GetOtherAtomIdx(sp2.GetIdx()) for b in sp2.GetBonds()
+                   if b.GetBondType() == Chem.BondType.DOUBLE and not b.GetIsAromatic()), None)
+    if double is None:
+        return None
+    for r in mol.GetRingInfo().AtomRings():
+        if len(r) in (5, 6) and c1.GetIdx() in r and c2.GetIdx() in r and double in r:
+            return len(r)
+    return None
 
 
 def _is_cumulated(b1: Chem.Bond, b2: Chem.Bond) -> bool:

@@ -208,6 +208,13 @@ def test_dichloroethylenes_and_difluoroethylene_stay_within_calibration():
     # H-N-C-H (Pretsch H-H, recalled): N-methylacetamide 4.8; peptide NH-Halpha 6-9.5
     ("CNC(C)=O", 0, 1, 4.5, 5.2, {}),
     ("CC(=O)N[C@@H](C)C(=O)OC", 3, 4, 6.0, 9.5, {}),
+    # allylic 3J fixed by a ring, and beside oxygen (Pretsch H-H, recalled from memory): cyclopent-2-enone
+    # H3-H4 2.7, cyclohex-2-enone H3-H4 4.0, allyl alcohol CH2-CH= 5.4
+    ("O=C1CCC=C1", 3, 4, 2.0, 3.2, {}),
+    ("O=C1CCCC=C1", 4, 5, 3.0, 5.0, {}),
+    ("C=CCO", 1, 2, 5.0, 6.2, {}),
+    # geminal 2J of a ring CH2 beside the O of a 1,3-dioxolane (solketal 8.2-8.6; recalled from memory)
+    ("CC1(C)OCC(CO)O1", 4, 4, 7.5, 9.5, {}),
     # H-C-O-H without exchange (ethanol in DMSO-d6: CH2 dq, 3J(CH2,OH) about 5 Hz; recalled)
     ("CCO", 1, 2, 4.0, 6.0, {"labile_coupled": True}),
 ])

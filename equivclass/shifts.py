@@ -376,9 +376,18 @@ def _h_sp3(mol, c) -> ShiftEstimate:
     else:
         terms.extend(methine[0])
     ring = ""
-    if mol.GetRingInfo().IsAtomInRingOfSize(ci, 3):
+    ri = mol.GetRingInfo()
+    if ri.IsAtomInRingOfSize(ci, 3):
         terms.append(_H_BASE["ring3"])
         ring = "; three-membered ring"
+    elif ri.IsAtomInRingOfSize(ci, 4):
+        terms.append(_H_BASE["ring4"])
+        ring = "; four-membered ring"
+    elif ri.IsAtomInRingOfSize(ci, 5):
+        beside_co = any(_has_double_o(mol, n) and any(len(r) == 5 and ci in r and n.GetIdx() in r
+                                                      for r in ri.AtomRings()) for n in heavy)
+        terms.append(_H_BASE["ring5-alpha-carbonyl" if beside_co else "ring5"])
+        ring = "; five-membered ring" + (", beside its C=O" if beside_co else "")
     parts = []
     if alpha_names:
         parts.append(_fmt(alpha_names))

@@ -125,6 +125,10 @@ REFERENCE = [
     ("alkyl", "IC[CH2:1]CC", "1H", 1.81, "SDBS 1-iodobutane C2-H2", None),
     ("alkyl", "C[CH2:1]Cc1ccccc1", "1H", 1.65, "SDBS propylbenzene C2-H2", None),
     ("alkyl", "OC[CH2:1]CO", "1H", 1.81, "SDBS 1,3-propanediol C2-H2", None),
+    # small rings (recalled from memory; ring4/ring5 terms of shifts_1h_base.csv, these held out of them)
+    ("alkyl", "C1=CCC[CH2:1]1", "1H", 2.30, "SDBS cyclopentene allylic CH2", None),
+    ("alkyl", "C1=CC[CH2:1]C1", "1H", 1.82, "SDBS cyclopentene C4-H2", None),
+    ("alkyl", "C1CO[CH2:1]1", "1H", 4.73, "SDBS oxetane OCH2", None),
     ("alkyl", "C[CH:1](N)C(=O)OC", "1H", 3.55, "SDBS alanine methyl ester, free base (calibration)", None),
     ("alkyl", "CC(C)[CH:1](N)C(=O)OC", "1H", 3.30, "SDBS valine methyl ester, free base", None),
     ("alkyl", "N[CH:1](Cc1ccccc1)C(=O)OC", "1H", 3.74, "SDBS phenylalanine methyl ester, free base", None),

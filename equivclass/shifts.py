@@ -346,6 +346,8 @@ def _h_sp3(mol, c) -> ShiftEstimate:
     missing: list[str] = []
     for a in heavy:
         g = _group(mol, a, ci)
+        if g == "alkenyl" and _conjugated_alkene_carbon(mol, a):
+            g = "alkenyl-conj"
         k, row = _lookup(_H_ALKYL, g)
         if row is None:
             missing.append(g)
@@ -451,6 +453,22 @@ def _methine_corrections(mol, c, alphas) -> tuple[list[float], str] | None:
             out.append(_H_METHINE_BETA_C * min(n_beta, 4))
             notes.append(f"{n_beta} beta carbon{'s' if n_beta > 1 else ''}, {_H_METHINE_BETA_C:+.2f} each")
     return (out, "; ".join(notes)) if notes else None
+
+
+def _conjugated_alkene_carbon(mol, a) -> bool:
+    """True when the C=C that carbon `a` belongs to carries a C=O or C≡N on either end (enone, enal,
+    enoate, acrylonitrile)."""
+    partner = next((b.GetOtherAtom(a) for b in a.GetBonds()
+                    if b.GetBondType() == Chem.BondType.DOUBLE and not b.GetIsAromatic()), None)
+    if partner is None or partner.GetAtomicNum() != 6:
+        return False
+    for end in (a, partner):
+        for n in end.GetNeighbors():
+            if n.GetIdx() in (a.GetIdx(), partner.GetIdx()) or n.GetAtomicNum() != 6:
+                continue
+            if _has_double_o(mol, n) or any(b.GetBondType() == Chem.BondType.TRIPLE for b in n.GetBonds()):
+                return True
+    return False
 
 
 def _sum(terms: list[float]) -> float:

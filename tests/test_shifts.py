@@ -129,6 +129,9 @@ REFERENCE = [
     ("alkyl", "C1=CCC[CH2:1]1", "1H", 2.30, "SDBS cyclopentene allylic CH2", None),
     ("alkyl", "C1=CC[CH2:1]C1", "1H", 1.82, "SDBS cyclopentene C4-H2", None),
     ("alkyl", "C1CO[CH2:1]1", "1H", 4.73, "SDBS oxetane OCH2", None),
+    # allylic C-H on a C=C conjugated with C=O (alkenyl-conj row; recalled from memory)
+    ("alkyl", "[CH3:1]/C=C/C(=O)OC", "1H", 1.87, "SDBS methyl crotonate CH3 (calibration)", None),
+    ("alkyl", "[CH3:1]C1=CC(=O)CCC1", "1H", 1.95, "SDBS 3-methylcyclohex-2-enone CH3", None),
     ("alkyl", "C[CH:1](N)C(=O)OC", "1H", 3.55, "SDBS alanine methyl ester, free base (calibration)", None),
     ("alkyl", "CC(C)[CH:1](N)C(=O)OC", "1H", 3.30, "SDBS valine methyl ester, free base", None),
     ("alkyl", "N[CH:1](Cc1ccccc1)C(=O)OC", "1H", 3.74, "SDBS phenylalanine methyl ester, free base", None),

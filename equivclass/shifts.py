@@ -915,10 +915,26 @@ def _c_sp3(mol, c) -> ShiftEstimate:
                 names.append(f"gamma-{k}")
     detail = f"; substituents {_fmt(names)}" if names else ""
     note = f"; no increment for {_fmt(missing)}" if missing else ""
-    if mol.GetRingInfo().NumAtomRings(ci):
+    ring = _carbocycle_size(mol, ci)
+    if ring:
+        ch2 = c.GetTotalNumHs(includeNeighbors=True) == 2
+        terms.append(p[f"ring{ring}_ch2"] if ch2 else p["ring_substituted"])
+        note += f"; {ring}-membered carbocycle correction"
+    elif mol.GetRingInfo().NumAtomRings(ci):
         note += "; acyclic rule applied to a ring carbon"
     return ShiftEstimate(round(sum(sorted(terms)), 1),
                          f"sp3 C: Grant-Paul alkane rule{detail}{note}")
+
+
+def _carbocycle_size(mol, ci: int) -> int | None:
+    """Size (5-7) of the smallest ring through carbon ci when that ring is all sp3 carbon, else None."""
+    rings = [r for r in mol.GetRingInfo().AtomRings() if ci in r]
+    if not rings:
+        return None
+    smallest = min(rings, key=len)
+    if len(smallest) not in (5, 6, 7) or not all(_is_sp3_carbon(mol.GetAtomWithIdx(i)) for i in smallest):
+        return None
+    return len(smallest)
 
 
 def _c_alkene(mol, c, p) -> ShiftEstimate:

@@ -15,7 +15,8 @@ Rules (tables with their sources in ``equivclass.data``, files ``shifts_*.csv``)
 * 1H on aromatic rings: base value of the ring position (benzene, naphthalene, heteroaromatics)
   + benzene ortho/meta/para increments of the ring substituents.
 * Aldehydes, alkynes, imines, labile O-H/N-H/S-H: class base values.
-* 13C: Grant-Paul alkane rule + substituent increments; benzene increments; alkene increments;
+* 13C: Grant-Paul alkane rule + substituent increments, with ring corrections for carbocycles and
+  parent values for CH3-X (shifts_13c_methyl.csv); benzene increments; alkene increments;
   carbonyl / nitrile / alkyne base values.
 * 19F and 31P: group base values chosen by the atoms bonded to the nucleus; F on benzene rings
   adds ortho (F only), meta and para increments to fluorobenzene (data/shifts_19f_arene.csv).
@@ -62,6 +63,7 @@ _H_BENZENE = {r["group"]: (float(r["ortho"]), float(r["meta"]), float(r["para"])
               for r in _rows("shifts_1h_benzene.csv")}
 _H_BASE = {r["key"]: float(r["shift_ppm"]) for r in _rows("shifts_1h_base.csv")}
 _C_ALKANE = {r["param"]: float(r["value"]) for r in _rows("shifts_13c_alkane.csv")}
+_C_METHYL = {r["group"]: (float(r["shift_ppm"]), r["note"]) for r in _rows("shifts_13c_methyl.csv")}
 _C_SUBST = {}
 for _r in _rows("shifts_13c_substituent.csv"):
     _an, _bn = float(_r["alpha_n"]), float(_r["beta_n"])
@@ -864,6 +866,13 @@ def _c_type(atom) -> int:
 
 def _c_sp3(mol, c) -> ShiftEstimate:
     ci = c.GetIdx()
+    heavy = [n for n in c.GetNeighbors() if not _is_h(n)]
+    if len(heavy) == 1 and c.GetTotalNumHs(includeNeighbors=True) == 3 and not _is_sp3_carbon(heavy[0]):
+        g = _group(mol, heavy[0], ci)
+        n_h = heavy[0].GetTotalNumHs(includeNeighbors=True) if heavy[0].GetAtomicNum() == 7 else 0
+        g = {("NR2", 1): "NHR", ("NC(O)R", 1): "NHC(O)R"}.get((g, n_h), g)
+        if g in _C_METHYL:   # exact class only: a fallback class would pose as a measured parent
+            return ShiftEstimate(_C_METHYL[g][0], f"CH3-X parent value ({g}: {_C_METHYL[g][1]})")
     # Grant-Paul: sp3 carbons by bond distance through the sp3-carbon skeleton
     dist = {ci: 0}
     frontier = [c]

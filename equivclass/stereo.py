@@ -342,7 +342,41 @@ class StereoChoice:
 
 
 def unspecified_elements(mol: Chem.Mol) -> list:
-    return [si for si in stereo_elements(mol) if si.specified == Chem.StereoSpecified.Unspecified]
+    found = [si for si in stereo_elements(mol) if si.specified == Chem.StereoSpecified.Unspecified]
+    return found + _pseudo_asymmetric_centres(mol, {si.centeredOn for si in found
+                                                    if si.type == Chem.StereoType.Atom_Tetrahedral})
+
+
+@dataclass(frozen=True)
+class _OpenCentre:
+    """An unspecified tetrahedral centre found here rather than by RDKit (same fields as its StereoInfo)."""
+
+    centeredOn: int
+    type: object = Chem.StereoType.Atom_Tetrahedral
+    specified: object = Chem.StereoSpecified.Unspecified
+    controllingAtoms: tuple = ()
+
+
+def _pseudo_asymmetric_centres(mol: Chem.Mol, known: set) -> list:
+    """Unspecified pseudo-asymmetric centres (r/s): a carbon whose two constitutionally equal branches have
+    opposite configurations (C3 of ribitol and xylitol; Eliel-Wilen ch. 8). RDKit does not list them while
+    they are unspecified."""
+    tagged = [a for a in atom_list(mol) if a.GetChiralTag() != Chem.ChiralType.CHI_UNSPECIFIED]
+    if len(tagged) < 2:
+        return []
+    plain = list(Chem.CanonicalRankAtoms(mol, breakTies=False, includeChirality=False))
+    chiral = list(Chem.CanonicalRankAtoms(mol, breakTies=False, includeChirality=True))
+    out = []
+    for a in atom_list(mol):
+        if a.GetIdx() in known or a.GetAtomicNum() != 6 or a.GetDegree() != 4 or \
+                a.GetChiralTag() != Chem.ChiralType.CHI_UNSPECIFIED:
+            continue
+        nbrs = [n.GetIdx() for n in a.GetNeighbors()]
+        ranks = [plain[i] for i in nbrs]
+        pairs = [(i, j) for x, i in enumerate(nbrs) for j in nbrs[x + 1:] if plain[i] == plain[j]]
+        if len(pairs) == 1 and len(set(ranks)) == 3 and chiral[pairs[0][0]] != chiral[pairs[0][1]]:
+            out.append(_OpenCentre(a.GetIdx()))
+    return out
 
 
 def stereo_elements(mol: Chem.Mol) -> list:
@@ -373,7 +407,12 @@ def isomeric_smiles(mol: Chem.Mol) -> str:
     """Canonical isomeric SMILES without explicit H. Stereo is perceived again first, so that
     double-bond geometry set as cis/trans on the bond is written (it is not written otherwise)."""
     m = Chem.RemoveHs(mol, sanitize=False)
-    Chem.AssignStereochemistry(m, cleanIt=False, force=True)
+    probe = Chem.Mol(m)
+    Chem.AssignStereochemistry(probe, cleanIt=True, force=True)   # drops tags of non-stereogenic centres
+    for a, p in zip(m.GetAtoms(), probe.GetAtoms()):
+        if p.GetChiralTag() == Chem.ChiralType.CHI_UNSPECIFIED:
+            a.SetChiralTag(Chem.ChiralType.CHI_UNSPECIFIED)
+    Chem.AssignStereochemistry(m, cleanIt=False, force=True)      # keeps the cis/trans set on bonds
     return Chem.MolToSmiles(m)
 
 

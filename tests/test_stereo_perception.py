@@ -86,3 +86,20 @@ def test_hindered_biaryl_axes_are_named(smiles, warned):
     single bond fast, so it must say so where the axis may be slow."""
     d = equivclass.analyze(smiles).to_dict()
     assert any("biaryl axis" in w for w in d["warnings"]) == warned, d["warnings"]
+
+
+def test_pseudo_asymmetric_centre_left_open_gives_both_meso_forms():
+    """Pentitols: with C2 and C4 of opposite configuration, C3 is pseudo-asymmetric (r/s) and the two
+    choices are the two meso diastereomers ribitol and xylitol; with C2 and C4 alike, C3 is not
+    stereogenic and both choices are one compound (arabitol). Eliel & Wilen 1994, ch. 8 (recalled from
+    memory)."""
+    meso = "OC[C@@H](O)C(O)[C@@H](O)CO"
+    chiral = "OC[C@@H](O)C(O)[C@H](O)CO"
+    from rdkit.Chem import rdCIPLabeler
+    for smi, labels in ((meso, {"R", "S"}), (chiral, {"R"}) ):
+        m = Chem.MolFromSmiles(smi)
+        rdCIPLabeler.AssignCIPLabels(m)
+        assert {a.GetProp("_CIPCode") for a in m.GetAtoms() if a.HasProp("_CIPCode")} in (labels, {"S"}), smi
+    reps = equivclass.analyze_each_stereoisomer(meso)
+    assert len(reps) == 2 and len({r.smiles for r in reps}) == 2
+    assert len(equivclass.analyze_each_stereoisomer(chiral)) == 1

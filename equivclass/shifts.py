@@ -79,6 +79,8 @@ _H_MULTI = {(r["kind"], r["groups"], r["other"], r["ring"]): (float(r["shift_ppm
 _H_SHOOLERY = {r["group"]: float(r["sigma"]) for r in _rows("shifts_1h_shoolery.csv")}
 _H_METHINE_DAMP = {r["group"]: float(r["value"]) for r in _rows("shifts_1h_methine.csv") if r["rule"] == "damp"}
 _H_METHINE_DAMP_N = {r["group"]: float(r["value"]) for r in _rows("shifts_1h_methine.csv") if r["rule"] == "damp_n"}
+_H_METHINE_DAMP_ARYL = {r["group"]: float(r["value"]) for r in _rows("shifts_1h_methine.csv")
+                        if r["rule"] == "damp_aryl"}
 _H_METHINE_BETA_C = next(float(r["value"]) for r in _rows("shifts_1h_methine.csv") if r["rule"] == "beta_carbon")
 _F_BASE = {r["key"]: float(r["shift_ppm"]) for r in _rows("shifts_19f.csv")}
 _F_ARENE = {r["group"]: tuple(float(r[k]) if r[k] else None for k in ("ortho", "meta", "para"))
@@ -432,6 +434,13 @@ def _methine_corrections(mol, c, alphas) -> tuple[list[float], str] | None:
     ci = c.GetIdx()
     functional = [k for k, _, _ in alphas if k != "alkyl"]
     hetero = [k for k in functional if k in _METHINE_STRONG or k in _METHINE_BETA_GROUPS]
+    if not hetero and functional.count("aryl") == 1 and len(functional) == 2:
+        other = next(k for k in functional if k != "aryl")
+        f = _H_METHINE_DAMP_ARYL.get(_methine_class(other))
+        if f is None:
+            return None
+        out = [v * f if k == other else v for k, v, _ in alphas]
+        return out, f"methine saturation beside aryl ({other} x{f:g})"
     if len(hetero) != 1:
         return None
     carbon_type = [k for k in functional if k != hetero[0]]

@@ -133,6 +133,9 @@ REFERENCE = [
     # allylic C-H on a C=C conjugated with C=O (alkenyl-conj row; recalled from memory)
     ("alkyl", "[CH3:1]/C=C/C(=O)OC", "1H", 1.87, "SDBS methyl crotonate CH3 (calibration)", None),
     ("alkyl", "[CH3:1]C1=CC(=O)CCC1", "1H", 1.95, "SDBS 3-methylcyclohex-2-enone CH3", None),
+    ("alkyl", "C[CH:1](C(=O)O)c1ccccc1", "1H", 3.73, "SDBS 2-phenylpropanoic acid (calibration)", None),
+    ("alkyl", "CC(C)Cc1ccc(cc1)[CH:1](C)C(=O)O", "1H", 3.70, "SDBS ibuprofen CH", None),
+    ("alkyl", "C[CH:1](C(=O)OC)c1ccccc1", "1H", 3.72, "SDBS methyl 2-phenylpropanoate", None),
     ("alkyl", "C[CH:1](N)C(=O)OC", "1H", 3.55, "SDBS alanine methyl ester, free base (calibration)", None),
     ("alkyl", "CC(C)[CH:1](N)C(=O)OC", "1H", 3.30, "SDBS valine methyl ester, free base", None),
     ("alkyl", "N[CH:1](Cc1ccccc1)C(=O)OC", "1H", 3.74, "SDBS phenylalanine methyl ester, free base", None),

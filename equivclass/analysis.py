@@ -19,7 +19,7 @@ from .notation import SetSpec, components, label_fragments
 from .nuclei import active_nuclei
 from .options import Options, make_options
 from .report import CouplingResult, FragmentResult, Report, SetResult, WitnessResult
-from .stereo import (allene_axes, configuration, hindered_biaryl_axes, is_metal, isomeric_smiles, stereo_elements, stereoisomers,
+from .stereo import (configuration, hindered_biaryl_axes, is_metal, isomeric_smiles, long_cumulenes, stereoisomers,
                      with_conformer)
 from .structure import Structure, read_structure
 from .symmetry import SymmetryTooComplex, build_graph, orbits, pair_classes
@@ -78,7 +78,9 @@ def _analyze_isomer(st: Structure, mol: Chem.Mol, opts: Options, warnings: tuple
         warnings.append("amide C–N rotation treated as slow: one rotamer analysed "
                         "(ask for fast amide rotation to average)")
     _hypervalent_warning(mol, warnings)
-    _allene_warning(st, mol, warnings)
+    for chain in long_cumulenes(mol):
+        warnings.append(f"cumulene through atoms {','.join(map(str, chain))}: its end-to-end cis/trans or "
+                        f"axial geometry is not kept (analysed as if free)")
     for a, b, n in hindered_biaryl_axes(mol):
         warnings.append(f"biaryl axis {a}–{b} has {n} ortho substituents: its rotation may be slow "
                         f"(atropisomers); analysed as freely rotating, so groups that would be "
@@ -364,15 +366,3 @@ def _hypervalent_warning(mol: Chem.Mol, warnings: list) -> None:
     if hyper:
         warnings.append("centres with five or more neighbours (atoms " + ",".join(map(str, hyper)) +
                         ") treated as fully symmetric")
-
-
-def _allene_warning(st, mol: Chem.Mol, warnings: list) -> None:
-    """An allene axis whose configuration the input cannot carry (SMILES has none) is analysed in one
-    configuration; that matters only beside other stereo elements (diastereomers)."""
-    axes = allene_axes(mol)
-    given_3d = st.mol.GetNumConformers() and st.mol.GetConformer().Is3D()
-    if not axes or given_3d or not stereo_elements(mol):
-        return
-    warnings.append("allene axis at " + ", ".join(f"C{i}" for i in axes) + ": the input carries no axial "
-                    "configuration, so one is analysed relative to the other stereo elements (give a 3D "
-                    "structure to choose)")

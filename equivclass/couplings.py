@@ -251,7 +251,7 @@ def _classify_hh(mol, path, atoms, inner, nb, bond, planar):
             return "HH3_hcoh"
         if c1.GetAtomicNum() == 7 or c2.GetAtomicNum() == 7:
             c = c2 if c1.GetAtomicNum() == 7 else c1
-            if c.GetAtomicNum() == 6 and not c.GetIsAromatic():
+            if c.GetAtomicNum() == 6 and c.GetHybridization() == Chem.HybridizationType.SP3:
                 return {3: "HH3_amide_nh_ch3", 2: "HH3_amide_nh_ch2", 1: "HH3_amide_nh_ch"}.get(
                     c.GetTotalNumHs(includeNeighbors=True), "HH3_amide_nh")
             return "HH3_amide_nh"
@@ -352,6 +352,8 @@ def _two_hetero_ring_rule(mol: Chem.Mol, ring, pair) -> str | None:
 def _endocyclic_alkene_ring(mol: Chem.Mol, c1: Chem.Atom, c2: Chem.Atom) -> int | None:
     """5 or 6 when the sp3–sp2 bond c1–c2 and the sp2 carbon's C=C lie in one ring of that size (the
     allylic H–C–C=C dihedral is then fixed by the ring), else None."""
+    if (c1.GetHybridization() == Chem.HybridizationType.SP2) == (c2.GetHybridization() == Chem.HybridizationType.SP2):
+        return None   # the single bond of a ring diene is not an allylic =CH–CH2 pair
     sp2 = c1 if c1.GetHybridization() == Chem.HybridizationType.SP2 else c2
     double = next((b.GetOtherAtomIdx(sp2.GetIdx()) for b in sp2.GetBonds()
                    if b.GetBondType() == Chem.BondType.DOUBLE and not b.GetIsAromatic()), None)

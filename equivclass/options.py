@@ -53,11 +53,16 @@ def make_options(**kwargs) -> Options:
     if unknown:
         raise InputError(f"unknown option(s): {', '.join(unknown)}")
     if "nuclei" in kwargs and kwargs["nuclei"] is not None:
+        if not isinstance(kwargs["nuclei"], (str, list, tuple)):
+            raise InputError(f"option nuclei: give isotopes such as '1H,19F' or ['13C'], not {kwargs['nuclei']!r}")
         kwargs["nuclei"] = tuple(i.symbol for i in nucdata.parse_isotope_list(kwargs["nuclei"]))
     if "shifts" in kwargs:
         sh = kwargs["shifts"] or ()
-        kwargs["shifts"] = tuple(sorted((int(k), float(v)) for k, v in
-                                        (sh.items() if isinstance(sh, dict) else sh)))
+        try:
+            kwargs["shifts"] = tuple(sorted((int(k), float(v)) for k, v in
+                                            (sh.items() if isinstance(sh, dict) else sh)))
+        except (TypeError, ValueError):
+            raise InputError(f"option shifts: give atom index and ppm pairs, e.g. {{3: 1.25}}, not {sh!r}") from None
     kwargs = {k: v for k, v in kwargs.items() if v is not None}
     for k, v in kwargs.items():
         _check_type(k, v)

@@ -880,6 +880,10 @@ def _c_sp3(mol, c) -> ShiftEstimate:
         g = _group(mol, heavy[0], ci)
         n_h = heavy[0].GetTotalNumHs(includeNeighbors=True) if heavy[0].GetAtomicNum() == 7 else 0
         g = {("NR2", 1): "NHR", ("NC(O)R", 1): "NHC(O)R"}.get((g, n_h), g)
+        if g == "aryl" and _ring_key(mol, heavy[0].GetIdx(), _aromatic_ring(mol, heavy[0].GetIdx()) or ()) != "cccccc":
+            g = ""      # the toluene value holds for benzene rings only
+        if g == "OR" and not _primary_alkyl_ether(mol, heavy[0], ci):
+            g = ""      # the value is that of methyl ethers of primary alkyls
         if g in _C_METHYL:   # exact class only: a fallback class would pose as a measured parent
             return ShiftEstimate(_C_METHYL[g][0], f"CH3-X parent value ({g}: {_C_METHYL[g][1]})")
     # Grant-Paul: sp3 carbons by bond distance through the sp3-carbon skeleton
@@ -942,6 +946,12 @@ def _c_sp3(mol, c) -> ShiftEstimate:
         note += "; acyclic rule applied to a ring carbon"
     return ShiftEstimate(round(sum(sorted(terms)), 1),
                          f"sp3 C: Grant-Paul alkane rule{detail}{note}")
+
+
+def _primary_alkyl_ether(mol, o, ci: int) -> bool:
+    """True when the ether O's other partner is an sp3 carbon carrying two or three H (CH3-O-CH2R)."""
+    other = [n for n in o.GetNeighbors() if n.GetIdx() != ci]
+    return len(other) == 1 and _is_sp3_carbon(other[0]) and other[0].GetTotalNumHs(includeNeighbors=True) >= 2
 
 
 def _carbocycle_size(mol, ci: int) -> int | None:

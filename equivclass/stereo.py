@@ -77,7 +77,7 @@ ATROPISOMER_MIN_ORTHO = 3   # ortho substituents (fused rings included) from whi
 
 def hindered_biaryl_axes(mol: Chem.Mol) -> list[tuple[int, int, int]]:
     """(a, b, n) for each single bond joining two aromatic rings whose ortho positions carry n ≥ 3 non-H
-    atoms (a fused ring counts as an ortho substituent): such axes may rotate slowly (atropisomers, as in
+    atoms (a fused ring counts as an ortho substituent, fluorine as half, being small): such axes may rotate slowly (atropisomers, as in
     2,2'-disubstituted 1,1'-binaphthyls and 2,2',6,6'-tetrasubstituted biphenyls; Eliel-Wilen ch. 14)."""
     out = []
     for b in bond_list(mol):
@@ -91,19 +91,83 @@ def hindered_biaryl_axes(mol: Chem.Mol) -> list[tuple[int, int, int]]:
             for ortho in end.GetNeighbors():
                 if ortho.GetIdx() == other.GetIdx():
                     continue
-                n += sum(1 for x in ortho.GetNeighbors()
+                n += sum(0.5 if x.GetAtomicNum() == 9 else 1 for x in ortho.GetNeighbors()
                          if x.GetIdx() != end.GetIdx() and x.GetAtomicNum() > 1 and
                          not (x.GetIsAromatic() and x.IsInRing() and
                               mol.GetBondBetweenAtoms(x.GetIdx(), ortho.GetIdx()).GetIsAromatic() and
                               _same_ring(mol, x.GetIdx(), ortho.GetIdx(), end.GetIdx())))
         if n >= ATROPISOMER_MIN_ORTHO:
-            out.append((a1.GetIdx(), a2.GetIdx(), n))
+            out.append((a1.GetIdx(), a2.GetIdx(), int(n) if n == int(n) else n))
     return out
 
 
 def _same_ring(mol: Chem.Mol, x: int, ortho: int, end: int) -> bool:
     """True when x continues the ring that holds the axis atom `end` and its ortho atom (not a substituent)."""
     return any(x in r and ortho in r and end in r for r in mol.GetRingInfo().AtomRings())
+
+
+AXIS_PARITY = "equivclass_axis_parity"   # atom property: chosen configuration of an allene axis (±1)
+
+
+def _stereogenic_axes(mol: Chem.Mol, ranks) -> list[int]:
+    """Allene centres whose two ends each carry two constitutionally different substituents."""
+    out = []
+    for c in allene_axes(mol):
+        a1, a2, b1, b2 = _allene_axis(mol.GetAtomWithIdx(c))
+        if ranks[a1] != ranks[a2] and ranks[b1] != ranks[b2]:
+            out.append(c)
+    return out
+
+
+def _axis_signature(mol: Chem.Mol, mirror: bool = False) -> tuple:
+    """Chosen allene configurations in a form independent of atom order: for each axis, its parity
+    relative to the substituents of each end sorted by canonical rank (swapping the two ends is an even
+    permutation, so their order does not matter); sorted by the rank of the centre."""
+    axes = [a.GetIdx() for a in atom_list(mol) if a.HasProp(AXIS_PARITY)]
+    if not axes:
+        return ()
+    ranks = list(Chem.CanonicalRankAtoms(mol, breakTies=False, includeChirality=True))
+    out = []
+    for c in axes:
+        nbrs = _allene_axis(mol.GetAtomWithIdx(c))
+        order = sorted(nbrs[:2], key=lambda i: ranks[i]) + sorted(nbrs[2:], key=lambda i: ranks[i])
+        p = mol.GetAtomWithIdx(c).GetIntProp(AXIS_PARITY) * _permutation_parity(nbrs, order)
+        out.append((ranks[c], -p if mirror else p))
+    return tuple(sorted(out))
+
+
+def _permutation_parity(seq_from, seq_to) -> int:
+    pos = {v: k for k, v in enumerate(seq_from)}
+    perm = [pos[v] for v in seq_to]
+    parity = 1
+    for i in range(len(perm)):
+        for j in range(i + 1, len(perm)):
+            if perm[i] > perm[j]:
+                parity = -parity
+    return parity
+
+
+def long_cumulenes(mol: Chem.Mol) -> list[tuple[int, ...]]:
+    """Atom chains of three or more cumulated double bonds (butatrienes and longer), whose end-to-end
+    cis/trans or axial geometry the configuration does not keep."""
+    inner = {a.GetIdx() for a in atom_list(mol) if a.GetDegree() == 2 and
+             all(b.GetBondType() == Chem.BondType.DOUBLE for b in a.GetBonds())}
+    chains, seen = [], set()
+    for start in sorted(inner):
+        if start in seen:
+            continue
+        chain, stack = set(), [start]
+        while stack:
+            x = stack.pop()
+            if x in chain:
+                continue
+            chain.add(x)
+            stack.extend(n.GetIdx() for n in mol.GetAtomWithIdx(x).GetNeighbors() if n.GetIdx() in inner)
+        seen |= chain
+        if len(chain) >= 2:
+            ends = {n.GetIdx() for x in chain for n in mol.GetAtomWithIdx(x).GetNeighbors()} - chain
+            chains.append(tuple(sorted(chain | ends)))
+    return chains
 
 
 def allene_axes(mol: Chem.Mol) -> list[int]:
@@ -206,7 +270,12 @@ def configuration(mol: Chem.Mol, amide_rotation_fast: bool = False) -> Configura
     for atom in atom_list(mol):
         axis = _allene_axis(atom)
         if axis is not None:
-            parity = _signed_volume(coords, atom.GetIdx(), axis) if coords is not None else 1
+            if atom.HasProp(AXIS_PARITY):
+                parity = atom.GetIntProp(AXIS_PARITY)        # chosen by `stereoisomers`
+            elif coords is not None:
+                parity = _signed_volume(coords, atom.GetIdx(), axis)
+            else:
+                parity = 1
             centres.append(Centre(atom.GetIdx(), axis, parity))
     planar = []
     for bond in bond_list(mol):
@@ -256,39 +325,70 @@ def _embedded_coordinates(mol: Chem.Mol):
     if any(a.GetDegree() > 4 or is_metal(a) for a in atom_list(mol)):
         return None   # force-field geometry of metal and hypervalent centres is not meaningful here
     fusions = _three_ring_fusions(mol)
-    coords = None
-    for attempt in range(EMBED_ATTEMPTS if fusions else 1):
-        params = AllChem.ETKDGv3()
-        params.randomSeed = 0xEC + attempt
-        params.enforceChirality = True
-        params.timeout = EMBED_TIMEOUT_S
-        m = Chem.Mol(mol)
-        try:
-            if AllChem.EmbedMolecule(m, params) != 0:
-                params.useRandomCoords = True
-                if AllChem.EmbedMolecule(m, params) != 0:
-                    return coords
-        except Exception:
-            return coords
-        coords = m.GetConformer().GetPositions()
-        if all(_cis_across(coords, *f) for f in fusions):
-            break
+    coords = _embed_once(mol, 0xEC)
+    if coords is None or all(_cis_across(coords, *f) for f in fusions):
+        return coords
+    # an unspecified trans fusion: take the tags of this geometry, invert one fusion atom, embed again
+    probe = _with_coordinates(mol, coords)
+    Chem.AssignStereochemistryFrom3D(probe)
+    fixed = Chem.Mol(mol)
+    for x, a, b, y in fusions:
+        if any(mol.GetAtomWithIdx(i).GetChiralTag() != Chem.ChiralType.CHI_UNSPECIFIED for i in (a, b)):
+            continue   # a configuration given in the input is kept as given
+        for i in (a, b):
+            fixed.GetAtomWithIdx(i).SetChiralTag(probe.GetAtomWithIdx(i).GetChiralTag())
+        if not _cis_across(coords, x, a, b, y):
+            atom = fixed.GetAtomWithIdx(b)
+            atom.SetChiralTag(Chem.ChiralType.CHI_TETRAHEDRAL_CW
+                              if atom.GetChiralTag() == Chem.ChiralType.CHI_TETRAHEDRAL_CCW
+                              else Chem.ChiralType.CHI_TETRAHEDRAL_CCW)
+    again = _embed_once(fixed, 0xEC)
+    if again is not None and all(_cis_across(again, *f) for f in fusions):
+        return again
     return coords
 
 
-EMBED_ATTEMPTS = 4   # seeds tried until every three-membered ring fused to a small ring is cis-fused
+def _with_coordinates(mol: Chem.Mol, coords) -> Chem.Mol:
+    """A copy of the molecule whose only conformer holds `coords` (3D)."""
+    m = Chem.Mol(mol)
+    conf = Chem.Conformer(m.GetNumAtoms())
+    for i, p in enumerate(coords):
+        conf.SetAtomPosition(i, p.tolist())
+    conf.Set3D(True)
+    m.RemoveAllConformers()
+    m.AddConformer(conf, assignId=True)
+    return m
+
+
+def _embed_once(mol: Chem.Mol, seed: int):
+    """Coordinates of one ETKDG embedding that enforces the molecule's tags (random start as a fallback)."""
+    from rdkit.Chem import AllChem
+    params = AllChem.ETKDGv3()
+    params.randomSeed = seed
+    params.enforceChirality = True
+    params.timeout = EMBED_TIMEOUT_S
+    m = Chem.Mol(mol)
+    try:
+        if AllChem.EmbedMolecule(m, params) != 0:
+            params.useRandomCoords = True
+            if AllChem.EmbedMolecule(m, params) != 0:
+                return None
+    except Exception:
+        return None
+    return m.GetConformer().GetPositions()
 
 
 def _three_ring_fusions(mol: Chem.Mol) -> list[tuple[int, int, int, int]]:
-    """(x, a, b, y) for each bond a–b shared by a three-membered ring and a ring of at most six atoms,
-    x and y the substituents of a and b outside both rings. Such a fusion can only be cis (a trans-fused
-    bicyclo[n.1.0] system with n ≤ 4 cannot close; common practice)."""
+    """(x, a, b, y) for each bond a–b shared by a three-membered ring and a ring of at most seven atoms,
+    x and y the substituents of a and b outside both rings. Such fusions are cis in practice (trans-fused
+    bicyclo[n.1.0] systems with n ≤ 5 are not formed under ordinary conditions; common practice), so cis
+    is assumed where the input leaves it open."""
     rings = mol.GetRingInfo().AtomRings()
     out = []
     for r3 in (r for r in rings if len(r) == 3):
         for r in rings:
             shared = set(r3) & set(r)
-            if r is r3 or len(r) > 6 or len(shared) != 2:
+            if r is r3 or len(r) > 7 or len(shared) != 2:
                 continue
             a, b = sorted(shared)
             both = set(r3) | set(r)
@@ -395,6 +495,8 @@ def stereo_elements(mol: Chem.Mol) -> list:
 
 
 def _describe(mol: Chem.Mol, si) -> str:
+    if si.type == "allene axis":
+        return f"allene axis C{si.centeredOn}"
     if si.type == Chem.StereoType.Atom_Tetrahedral:
         atom = mol.GetAtomWithIdx(si.centeredOn)
         return f"stereocentre {atom.GetSymbol()}{si.centeredOn}"
@@ -413,7 +515,15 @@ def isomeric_smiles(mol: Chem.Mol) -> str:
         if p.GetChiralTag() == Chem.ChiralType.CHI_UNSPECIFIED:
             a.SetChiralTag(Chem.ChiralType.CHI_UNSPECIFIED)
     Chem.AssignStereochemistry(m, cleanIt=False, force=True)      # keeps the cis/trans set on bonds
-    return Chem.MolToSmiles(m)
+    text = Chem.MolToSmiles(m)
+    again = Chem.MolFromSmiles(text, sanitize=False)               # round trip: RDKit's canonical form
+    if again is None:
+        return text
+    try:
+        again.UpdatePropertyCache(strict=False)
+        return Chem.MolToSmiles(again)
+    except Exception:
+        return text
 
 
 def _mirror_key(iso: Chem.Mol) -> str:
@@ -446,6 +556,9 @@ def stereoisomers(mol: Chem.Mol, limit: int = MAX_STEREOISOMERS,
     configuration of one embedded conformer, which is kept on the molecule for `configuration` to read.
     """
     elems = unspecified_elements(mol)
+    if not (mol.GetNumConformers() and mol.GetConformer().Is3D()):   # 3D input fixes the axes
+        plain = list(Chem.CanonicalRankAtoms(mol, breakTies=False, includeChirality=False))
+        elems += [_OpenCentre(c, type="allene axis") for c in _stereogenic_axes(mol, plain)]
     if not elems:
         return StereoChoice((mol,), ())
     ring_info = mol.GetRingInfo()
@@ -457,6 +570,7 @@ def stereoisomers(mol: Chem.Mol, limit: int = MAX_STEREOISOMERS,
         embedded = _with_embedded_configuration(mol, [si.centeredOn for si in poly])
         if embedded is not None:
             mol = embedded
+            mol.RemoveAllConformers()   # the tags now hold the fusions; each isomer is embedded with its own
             notes.append("ring-fusion/bridgehead centres " +
                          ", ".join(f"{mol.GetAtomWithIdx(si.centeredOn).GetSymbol()}{si.centeredOn}"
                                    for si in poly) +
@@ -469,9 +583,12 @@ def stereoisomers(mol: Chem.Mol, limit: int = MAX_STEREOISOMERS,
         return StereoChoice((mol,), (), tuple(notes))
     seen, out = set(), []
     for combo in itertools.product((0, 1), repeat=len(rest)):
+        n_cis = sum(bit for si, bit in zip(rest, combo) if si.type == Chem.StereoType.Bond_Double)
         iso = Chem.Mol(mol)
         for si, bit in zip(rest, combo):
-            if si.type == Chem.StereoType.Atom_Tetrahedral:
+            if si.type == "allene axis":
+                iso.GetAtomWithIdx(si.centeredOn).SetIntProp(AXIS_PARITY, 1 if bit else -1)
+            elif si.type == Chem.StereoType.Atom_Tetrahedral:
                 iso.GetAtomWithIdx(si.centeredOn).SetChiralTag(
                     Chem.ChiralType.CHI_TETRAHEDRAL_CW if bit else Chem.ChiralType.CHI_TETRAHEDRAL_CCW)
             else:
@@ -479,16 +596,18 @@ def stereoisomers(mol: Chem.Mol, limit: int = MAX_STEREOISOMERS,
                 ca = list(si.controllingAtoms)
                 bond.SetStereoAtoms(_larger(iso, ca[:2]), _larger(iso, ca[2:]))
                 bond.SetStereo(Chem.BondStereo.STEREOCIS if bit else Chem.BondStereo.STEREOTRANS)
-        key = isomeric_smiles(iso)
+        key = (isomeric_smiles(iso), _axis_signature(iso))
         if key in seen:
             continue
         seen.add(key)
         if merge_enantiomers:
-            seen.add(_mirror_key(iso))
-        out.append(iso)
+            seen.add((_mirror_key(iso), _axis_signature(iso, mirror=True)))
+        out.append((n_cis, min(key, (_mirror_key(iso), _axis_signature(iso, mirror=True)))
+                    if merge_enantiomers else key, iso))
         if len(out) >= limit:
             break
-    return StereoChoice(tuple(out) or (mol,), descr, tuple(notes))
+    out.sort(key=lambda t: (t[0], t[1]))   # E-like geometries first, then an order independent of numbering
+    return StereoChoice(tuple(t[2] for t in out) or (mol,), descr, tuple(notes))
 
 
 def with_conformer(mol: Chem.Mol):
@@ -504,13 +623,7 @@ def _with_embedded_configuration(mol: Chem.Mol, atoms):
     coords = _embedded_coordinates(mol)
     if coords is None:
         return None
-    m = Chem.Mol(mol)
-    conf = Chem.Conformer(m.GetNumAtoms())
-    for i, p in enumerate(coords):
-        conf.SetAtomPosition(i, p.tolist())
-    conf.Set3D(True)
-    m.RemoveAllConformers()
-    m.AddConformer(conf, assignId=True)
+    m = _with_coordinates(mol, coords)
     probe = Chem.Mol(m)
     Chem.AssignStereochemistryFrom3D(probe)
     for a in atoms:

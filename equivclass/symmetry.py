@@ -170,7 +170,14 @@ class _Search:
         missing = mapped.count(-1)
         if missing > 1:
             return True
-        nb2, par2 = g.centres[ic]
+        target = g.centres.get(ic)
+        if target is None:
+            return False
+        nb2, par2 = target
+        # an allene centre lists its ends' substituents, not its own neighbours, so a substituent can be
+        # mapped before its end atom: an image outside the target's list is no automorphism
+        if any(x >= 0 and x not in nb2 for x in mapped):
+            return False
         if missing == 1:
             rest = [x for x in nb2 if x not in mapped]
             mapped[mapped.index(-1)] = rest[0]

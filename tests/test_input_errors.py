@@ -180,3 +180,12 @@ def test_api_option_of_wrong_kind_is_an_error(options, words):
     assert all(w in str(exc.value) for w in words), str(exc.value)
     import numpy as np   # numpy numbers are numbers
     assert equivclass.analyze("CCO", mhz=np.float64(600.0), stereoisomer=np.int64(0)).mhz == 600.0
+
+
+@pytest.mark.parametrize("options, word", [({"shifts": {"x": 1}}, "shifts"), ({"shifts": 5}, "shifts"),
+                                          ({"nuclei": 5}, "nuclei")])
+def test_api_shift_and_nuclei_options_of_wrong_kind(options, word):
+    """Wrong-kind shifts/nuclei options are refused by name, not with a Python error (common practice)."""
+    with pytest.raises(equivclass.errors.InputError) as exc:
+        equivclass.analyze("CCO", **options)
+    assert word in str(exc.value)

@@ -27,6 +27,10 @@ OWN = [
     "C1CCOC1", "O=C1CCCCC1", "CCC(C)CC", "OCC(O)CO", "CC(C)C[C@H](N)C(=O)O", "FC(F)(F)c1ccccc1",
     "C[C@@H](O)c1ccccc1", "C1CC2CCC1CC2", "CC1(C)CCCC1O", "C[C@@H]1C[C@H](C)C[C@@H](C)C1",
     "OP(=O)(OCC)OCC", "C/C(=N/O)c1ccccc1",
+    # allene axes, fused three-membered rings, a bridgehead amine, open E/Z and an open pseudo-asymmetric
+    # centre: configurations the program chooses itself must not depend on the atom order
+    "CC(F)=C=CCC=C=C(F)C", "CC=C=CCC=C=CC", "CC(C)C=C=CC", "C1CCCC2OC2C1", "C1CCC2OC2C1",
+    "Cc1ccc2N3Cc4cc(C)ccc4N(C3)Cc2c1", "CC=CC(=O)O", "ClC=CC=CCl", "OC[C@@H](O)C(O)[C@@H](O)CO",
 ]
 
 

@@ -103,3 +103,36 @@ def test_pseudo_asymmetric_centre_left_open_gives_both_meso_forms():
     reps = equivclass.analyze_each_stereoisomer(meso)
     assert len(reps) == 2 and len({r.smiles for r in reps}) == 2
     assert len(equivclass.analyze_each_stereoisomer(chiral)) == 1
+
+
+@pytest.mark.parametrize("smiles", ["C(=CC=C=CC)=CC", "C(C=C=CO)=C=CO", "C1=CC=C=CCC=C=CC=C=CCC=1"])
+def test_allenes_in_any_atom_order_are_analysed(smiles):
+    """Allene axes list the substituents of their ends, not their own neighbours; the symmetry search must
+    cope with a substituent mapped before its end atom (common practice: every valid structure gets an
+    answer)."""
+    assert equivclass.analyze(smiles).to_dict()["label"]
+
+
+def test_two_allene_axes_give_meso_and_rac_whatever_the_writing():
+    """Two allene axes give two diastereomers (meso-like and racemic; Eliel & Wilen 1994, ch. 14, recalled
+    from memory): both are offered, in the same order, however the SMILES is written."""
+    one = [r.to_dict()["label"] for r in equivclass.analyze_each_stereoisomer("CC(F)=C=CCC=C=C(F)C")]
+    two = [r.to_dict()["label"] for r in equivclass.analyze_each_stereoisomer("FC(C)=C=CCC=C=C(F)C")]
+    assert len(one) == 2 and len(set(one)) == 2 and one == two
+
+
+def test_enumerated_isomers_of_a_ring_fused_molecule_keep_their_own_configuration():
+    """Meso and dl 1,3-diols between two norbornyl groups differ (the central CH2 is diastereotopic in
+    the meso form, homotopic in dl; Mislow & Raban 1967, recalled from memory), also when the ring
+    fusions are left open and read from an embedding."""
+    labels = {r.to_dict()["label"] for r in
+              equivclass.analyze_each_stereoisomer("C12CCC(CC1)C2C(O)CC(O)C1C2CCC1CC2")}
+    meso = equivclass.analyze("C12CCC(CC1)C2[C@@H](O)C[C@@H](O)C1C2CCC1CC2").to_dict()["label"]
+    dl = equivclass.analyze("C12CCC(CC1)C2[C@@H](O)C[C@H](O)C1C2CCC1CC2").to_dict()["label"]
+    assert meso != dl and {meso, dl} <= labels
+
+
+def test_butatriene_geometry_is_named_as_not_kept():
+    """cis/trans isomers of butatrienes exist (common practice); the model does not keep them and says so."""
+    d = equivclass.analyze("C/C=C=C=C/C").to_dict()
+    assert any("cumulene" in w for w in d["warnings"])

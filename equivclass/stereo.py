@@ -107,6 +107,7 @@ def _same_ring(mol: Chem.Mol, x: int, ortho: int, end: int) -> bool:
 
 
 AXIS_PARITY = "equivclass_axis_parity"   # atom property: chosen configuration of an allene axis (±1)
+ENUMERATED = "equivclass_enumerated"      # molecule property: stereo set by `stereoisomers`
 
 
 def _stereogenic_axes(mol: Chem.Mol, ranks) -> list[int]:
@@ -506,16 +507,12 @@ def _describe(mol: Chem.Mol, si) -> str:
 
 
 def isomeric_smiles(mol: Chem.Mol) -> str:
-    """Canonical isomeric SMILES without explicit H. Stereo is perceived again first, so that
-    double-bond geometry set as cis/trans on the bond is written (it is not written otherwise)."""
-    m = Chem.RemoveHs(mol, sanitize=False)
-    probe = Chem.Mol(m)
-    Chem.AssignStereochemistry(probe, cleanIt=True, force=True)   # drops tags of non-stereogenic centres
-    for a, p in zip(m.GetAtoms(), probe.GetAtoms()):
-        if p.GetChiralTag() == Chem.ChiralType.CHI_UNSPECIFIED:
-            a.SetChiralTag(Chem.ChiralType.CHI_UNSPECIFIED)
-    Chem.AssignStereochemistry(m, cleanIt=False, force=True)      # keeps the cis/trans set on bonds
-    text = Chem.MolToSmiles(m)
+    """Canonical isomeric SMILES without explicit H. For isomers made by `stereoisomers`, stereo is
+    perceived again first, so that double-bond geometry set as cis/trans on the bond is written (it is
+    not written otherwise) and tags on non-stereogenic centres are dropped."""
+    if not mol.HasProp(ENUMERATED):
+        return Chem.MolToSmiles(Chem.RemoveHs(mol, sanitize=False))
+    text = _isomer_key(mol)
     again = Chem.MolFromSmiles(text, sanitize=False)               # round trip: RDKit's canonical form
     if again is None:
         return text
@@ -526,6 +523,18 @@ def isomeric_smiles(mol: Chem.Mol) -> str:
         return text
 
 
+def _isomer_key(mol: Chem.Mol) -> str:
+    """SMILES of an enumerated isomer with its stereo re-perceived (one writer for every key)."""
+    m = Chem.RemoveHs(mol, sanitize=False)
+    probe = Chem.Mol(m)
+    Chem.AssignStereochemistry(probe, cleanIt=True, force=True)   # drops tags of non-stereogenic centres
+    for a, p in zip(m.GetAtoms(), probe.GetAtoms()):
+        if p.GetChiralTag() == Chem.ChiralType.CHI_UNSPECIFIED:
+            a.SetChiralTag(Chem.ChiralType.CHI_UNSPECIFIED)
+    Chem.AssignStereochemistry(m, cleanIt=False, force=True)      # keeps the cis/trans set on bonds
+    return Chem.MolToSmiles(m)
+
+
 def _mirror_key(iso: Chem.Mol) -> str:
     m = Chem.Mol(iso)
     for a in m.GetAtoms():
@@ -534,7 +543,7 @@ def _mirror_key(iso: Chem.Mol) -> str:
             a.SetChiralTag(Chem.ChiralType.CHI_TETRAHEDRAL_CCW)
         elif tag == Chem.ChiralType.CHI_TETRAHEDRAL_CCW:
             a.SetChiralTag(Chem.ChiralType.CHI_TETRAHEDRAL_CW)
-    return isomeric_smiles(m)
+    return _isomer_key(m)
 
 
 def _larger(mol: Chem.Mol, candidates) -> int:
@@ -556,7 +565,7 @@ def stereoisomers(mol: Chem.Mol, limit: int = MAX_STEREOISOMERS,
     configuration of one embedded conformer, which is kept on the molecule for `configuration` to read.
     """
     elems = unspecified_elements(mol)
-    if not (mol.GetNumConformers() and mol.GetConformer().Is3D()):   # 3D input fixes the axes
+    if allene_axes(mol) and not (mol.GetNumConformers() and mol.GetConformer().Is3D()):   # 3D input fixes axes
         plain = list(Chem.CanonicalRankAtoms(mol, breakTies=False, includeChirality=False))
         elems += [_OpenCentre(c, type="allene axis") for c in _stereogenic_axes(mol, plain)]
     if not elems:
@@ -570,7 +579,8 @@ def stereoisomers(mol: Chem.Mol, limit: int = MAX_STEREOISOMERS,
         embedded = _with_embedded_configuration(mol, [si.centeredOn for si in poly])
         if embedded is not None:
             mol = embedded
-            mol.RemoveAllConformers()   # the tags now hold the fusions; each isomer is embedded with its own
+            if [si for si in elems if si not in poly]:
+                mol.RemoveAllConformers()   # the tags hold the fusions; each isomer is embedded with its own
             notes.append("ring-fusion/bridgehead centres " +
                          ", ".join(f"{mol.GetAtomWithIdx(si.centeredOn).GetSymbol()}{si.centeredOn}"
                                    for si in poly) +
@@ -585,6 +595,7 @@ def stereoisomers(mol: Chem.Mol, limit: int = MAX_STEREOISOMERS,
     for combo in itertools.product((0, 1), repeat=len(rest)):
         n_cis = sum(bit for si, bit in zip(rest, combo) if si.type == Chem.StereoType.Bond_Double)
         iso = Chem.Mol(mol)
+        iso.SetBoolProp(ENUMERATED, True)
         for si, bit in zip(rest, combo):
             if si.type == "allene axis":
                 iso.GetAtomWithIdx(si.centeredOn).SetIntProp(AXIS_PARITY, 1 if bit else -1)
@@ -596,14 +607,13 @@ def stereoisomers(mol: Chem.Mol, limit: int = MAX_STEREOISOMERS,
                 ca = list(si.controllingAtoms)
                 bond.SetStereoAtoms(_larger(iso, ca[:2]), _larger(iso, ca[2:]))
                 bond.SetStereo(Chem.BondStereo.STEREOCIS if bit else Chem.BondStereo.STEREOTRANS)
-        key = (isomeric_smiles(iso), _axis_signature(iso))
+        key = (_isomer_key(iso), _axis_signature(iso))
         if key in seen:
             continue
         seen.add(key)
-        if merge_enantiomers:
-            seen.add((_mirror_key(iso), _axis_signature(iso, mirror=True)))
-        out.append((n_cis, min(key, (_mirror_key(iso), _axis_signature(iso, mirror=True)))
-                    if merge_enantiomers else key, iso))
+        mirror = (_mirror_key(iso), _axis_signature(iso, mirror=True)) if merge_enantiomers else key
+        seen.add(mirror)
+        out.append((n_cis, min(key, mirror), iso))
         if len(out) >= limit:
             break
     out.sort(key=lambda t: (t[0], t[1]))   # E-like geometries first, then an order independent of numbering

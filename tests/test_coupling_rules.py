@@ -197,6 +197,7 @@ def test_dichloroethylenes_and_difluoroethylene_stay_within_calibration():
     ("c1ccnnc1", 0, 1, 7.5, 9.0, {}),         # pyridazine H4-H5
     ("Cn1ccnc1", 2, 3, 0.8, 1.8, {}),         # 1-methylimidazole H4-H5
     ("c1cscn1", 0, 1, 2.9, 3.6, {}),          # thiazole H4-H5
+    ("Cc1ccon1", 2, 3, 1.4, 2.1, {}),         # 3-methylisoxazole H4-H5 about 1.7 (recalled from memory)
     # aldehydes (Pretsch H-H, recalled from memory): acetaldehyde 2.9; propanal 1.4; enal =CH-CHO 7-8
     ("CC=O", 0, 1, 2.5, 3.2, {}),
     ("CCC=O", 1, 2, 1.0, 2.0, {}),

@@ -879,9 +879,13 @@ def _c_sp3(mol, c) -> ShiftEstimate:
     if len(heavy) == 1 and c.GetTotalNumHs(includeNeighbors=True) == 3 and not _is_sp3_carbon(heavy[0]):
         g = _group(mol, heavy[0], ci)
         n_h = heavy[0].GetTotalNumHs(includeNeighbors=True) if heavy[0].GetAtomicNum() == 7 else 0
-        g = {("NR2", 1): "NHR", ("NC(O)R", 1): "NHC(O)R"}.get((g, n_h), g)
-        if g == "aryl" and _ring_key(mol, heavy[0].GetIdx(), _aromatic_ring(mol, heavy[0].GetIdx()) or ()) != "cccccc":
-            g = ""      # the toluene value holds for benzene rings only
+        g = {("NR2", 1): "NHR", ("NC(O)R", 1): "NHC(O)R", ("NAr", 1): "NHAr"}.get((g, n_h), g)
+        if g == "aryl" and (_ring_key(mol, heavy[0].GetIdx(), _aromatic_ring(mol, heavy[0].GetIdx()) or ())
+                            != "cccccc" or _ortho_substituted(mol, heavy[0], ci)):
+            g = ""      # the toluene value holds for benzene rings without ortho substituents only
+        if g in ("NR2", "NHR") and any(n.GetAtomicNum() not in (1, 6) or not _is_sp3_carbon(n)
+                                       for n in heavy[0].GetNeighbors() if n.GetIdx() != ci):
+            g = ""      # amine values: N bonded to sp3 carbon or H only (not nitrosamines, hydrazines)
         if g == "OR" and not _primary_alkyl_ether(mol, heavy[0], ci):
             g = ""      # the value is that of methyl ethers of primary alkyls
         if g in _C_METHYL:   # exact class only: a fallback class would pose as a measured parent
@@ -946,6 +950,17 @@ def _c_sp3(mol, c) -> ShiftEstimate:
         note += "; acyclic rule applied to a ring carbon"
     return ShiftEstimate(round(sum(sorted(terms)), 1),
                          f"sp3 C: Grant-Paul alkane rule{detail}{note}")
+
+
+def _ortho_substituted(mol, ring_atom, ci: int) -> bool:
+    """True when a ring neighbour of the aromatic atom carrying the methyl has a non-H substituent."""
+    for n in ring_atom.GetNeighbors():
+        if n.GetIdx() == ci or not n.GetIsAromatic():
+            continue
+        if any(x.GetIdx() != ring_atom.GetIdx() and not x.GetIsAromatic() and not _is_h(x)
+               for x in n.GetNeighbors()):
+            return True
+    return False
 
 
 def _primary_alkyl_ether(mol, o, ci: int) -> bool:

@@ -120,23 +120,6 @@ def _stereogenic_axes(mol: Chem.Mol, ranks) -> list[int]:
     return out
 
 
-def _axis_signature(mol: Chem.Mol, mirror: bool = False) -> tuple:
-    """Chosen allene configurations in a form independent of atom order: for each axis, its parity
-    relative to the substituents of each end sorted by canonical rank (swapping the two ends is an even
-    permutation, so their order does not matter); sorted by the rank of the centre."""
-    axes = [a.GetIdx() for a in atom_list(mol) if a.HasProp(AXIS_PARITY)]
-    if not axes:
-        return ()
-    ranks = list(Chem.CanonicalRankAtoms(mol, breakTies=False, includeChirality=True))
-    out = []
-    for c in axes:
-        nbrs = _allene_axis(mol.GetAtomWithIdx(c))
-        order = sorted(nbrs[:2], key=lambda i: ranks[i]) + sorted(nbrs[2:], key=lambda i: ranks[i])
-        p = mol.GetAtomWithIdx(c).GetIntProp(AXIS_PARITY) * _permutation_parity(nbrs, order)
-        out.append((ranks[c], -p if mirror else p))
-    return tuple(sorted(out))
-
-
 def _permutation_parity(seq_from, seq_to) -> int:
     pos = {v: k for k, v in enumerate(seq_from)}
     perm = [pos[v] for v in seq_to]
@@ -151,7 +134,7 @@ def _permutation_parity(seq_from, seq_to) -> int:
 def long_cumulenes(mol: Chem.Mol) -> list[tuple[int, ...]]:
     """Atom chains of three or more cumulated double bonds (butatrienes and longer), whose end-to-end
     cis/trans or axial geometry the configuration does not keep."""
-    inner = {a.GetIdx() for a in atom_list(mol) if a.GetDegree() == 2 and
+    inner = {a.GetIdx() for a in atom_list(mol) if a.GetAtomicNum() == 6 and a.GetDegree() == 2 and
              all(b.GetBondType() == Chem.BondType.DOUBLE for b in a.GetBonds())}
     chains, seen = [], set()
     for start in sorted(inner):
@@ -458,12 +441,12 @@ class _OpenCentre:
     controllingAtoms: tuple = ()
 
 
-def _pseudo_asymmetric_centres(mol: Chem.Mol, known: set) -> list:
+def _pseudo_asymmetric_centres(mol: Chem.Mol, known: set, loose: bool = False) -> list:
     """Unspecified pseudo-asymmetric centres (r/s): a carbon whose two constitutionally equal branches have
     opposite configurations (C3 of ribitol and xylitol; Eliel-Wilen ch. 8). RDKit does not list them while
     they are unspecified."""
     tagged = [a for a in atom_list(mol) if a.GetChiralTag() != Chem.ChiralType.CHI_UNSPECIFIED]
-    if len(tagged) < 2:
+    if len(tagged) < 2 and not loose:
         return []
     plain = list(Chem.CanonicalRankAtoms(mol, breakTies=False, includeChirality=False))
     chiral = list(Chem.CanonicalRankAtoms(mol, breakTies=False, includeChirality=True))
@@ -475,7 +458,7 @@ def _pseudo_asymmetric_centres(mol: Chem.Mol, known: set) -> list:
         nbrs = [n.GetIdx() for n in a.GetNeighbors()]
         ranks = [plain[i] for i in nbrs]
         pairs = [(i, j) for x, i in enumerate(nbrs) for j in nbrs[x + 1:] if plain[i] == plain[j]]
-        if len(pairs) == 1 and len(set(ranks)) == 3 and chiral[pairs[0][0]] != chiral[pairs[0][1]]:
+        if len(pairs) == 1 and len(set(ranks)) == 3 and (loose or chiral[pairs[0][0]] != chiral[pairs[0][1]]):
             out.append(_OpenCentre(a.GetIdx()))
     return out
 
@@ -524,8 +507,19 @@ def isomeric_smiles(mol: Chem.Mol) -> str:
 
 
 def _isomer_key(mol: Chem.Mol) -> str:
-    """SMILES of an enumerated isomer with its stereo re-perceived (one writer for every key)."""
+    """SMILES of an enumerated isomer with its stereo re-perceived (one writer for every key). A chosen
+    allene axis is written as an isotope marker on its centre (its parity relative to each end's
+    substituents in constitutional rank order), so that RDKit canonicalises axes and tags together and a
+    centre made stereogenic only by two different axes keeps its tag."""
+    axes = [a.GetIdx() for a in atom_list(mol) if a.HasProp(AXIS_PARITY)]
     m = Chem.RemoveHs(mol, sanitize=False)
+    if axes:
+        ranks = list(Chem.CanonicalRankAtoms(mol, breakTies=False, includeChirality=False))
+        for c in axes:
+            nbrs = _allene_axis(mol.GetAtomWithIdx(c))
+            order = sorted(nbrs[:2], key=lambda i: ranks[i]) + sorted(nbrs[2:], key=lambda i: ranks[i])
+            p = mol.GetAtomWithIdx(c).GetIntProp(AXIS_PARITY) * _permutation_parity(nbrs, order)
+            m.GetAtomWithIdx(c).SetIsotope(901 if p > 0 else 902)   # key only, never shown
     probe = Chem.Mol(m)
     Chem.AssignStereochemistry(probe, cleanIt=True, force=True)   # drops tags of non-stereogenic centres
     for a, p in zip(m.GetAtoms(), probe.GetAtoms()):
@@ -535,7 +529,8 @@ def _isomer_key(mol: Chem.Mol) -> str:
     return Chem.MolToSmiles(m)
 
 
-def _mirror_key(iso: Chem.Mol) -> str:
+def _mirrored(iso: Chem.Mol) -> Chem.Mol:
+    """The mirror image: every tetrahedral tag and chosen allene axis inverted."""
     m = Chem.Mol(iso)
     for a in m.GetAtoms():
         tag = a.GetChiralTag()
@@ -543,16 +538,19 @@ def _mirror_key(iso: Chem.Mol) -> str:
             a.SetChiralTag(Chem.ChiralType.CHI_TETRAHEDRAL_CCW)
         elif tag == Chem.ChiralType.CHI_TETRAHEDRAL_CCW:
             a.SetChiralTag(Chem.ChiralType.CHI_TETRAHEDRAL_CW)
-    return _isomer_key(m)
+        if a.HasProp(AXIS_PARITY):
+            a.SetIntProp(AXIS_PARITY, -a.GetIntProp(AXIS_PARITY))
+    return m
 
 
-def _larger(mol: Chem.Mol, candidates) -> int:
-    """The bulkier of a double-bond end's substituents (heavier atom, then more heavy neighbours), so
-    that "trans" of the two chosen atoms is the usual E-like geometry."""
+def _larger(mol: Chem.Mol, candidates, ranks) -> int:
+    """The bulkier of a double-bond end's substituents (heavier atom, then more heavy neighbours, then
+    the canonical rank, which does not depend on atom order), so that "trans" of the two chosen atoms is
+    the usual E-like geometry."""
     real = [i for i in candidates if 0 <= i < mol.GetNumAtoms()]
     return max(real, key=lambda i: (mol.GetAtomWithIdx(i).GetAtomicNum(),
                                     sum(1 for n in mol.GetAtomWithIdx(i).GetNeighbors()
-                                        if n.GetAtomicNum() > 1), -i))
+                                        if n.GetAtomicNum() > 1), ranks[i]))
 
 
 def stereoisomers(mol: Chem.Mol, limit: int = MAX_STEREOISOMERS,
@@ -565,11 +563,17 @@ def stereoisomers(mol: Chem.Mol, limit: int = MAX_STEREOISOMERS,
     configuration of one embedded conformer, which is kept on the molecule for `configuration` to read.
     """
     elems = unspecified_elements(mol)
+    plain = None
     if allene_axes(mol) and not (mol.GetNumConformers() and mol.GetConformer().Is3D()):   # 3D input fixes axes
         plain = list(Chem.CanonicalRankAtoms(mol, breakTies=False, includeChirality=False))
-        elems += [_OpenCentre(c, type="allene axis") for c in _stereogenic_axes(mol, plain)]
+        axes = [_OpenCentre(c, type="allene axis") for c in _stereogenic_axes(mol, plain)]
+        if axes:   # centres that two different axes can make stereogenic are tried too (keys sort them out)
+            known = {si.centeredOn for si in elems if si.type == Chem.StereoType.Atom_Tetrahedral}
+            elems += _pseudo_asymmetric_centres(mol, known, loose=True) + axes
     if not elems:
         return StereoChoice((mol,), ())
+    if plain is None:
+        plain = list(Chem.CanonicalRankAtoms(mol, breakTies=False, includeChirality=False))
     ring_info = mol.GetRingInfo()
     poly = [si for si in elems if si.type == Chem.StereoType.Atom_Tetrahedral and
             ring_info.NumAtomRings(si.centeredOn) >= 2]
@@ -605,15 +609,19 @@ def stereoisomers(mol: Chem.Mol, limit: int = MAX_STEREOISOMERS,
             else:
                 bond = iso.GetBondWithIdx(si.centeredOn)
                 ca = list(si.controllingAtoms)
-                bond.SetStereoAtoms(_larger(iso, ca[:2]), _larger(iso, ca[2:]))
+                bond.SetStereoAtoms(_larger(iso, ca[:2], plain), _larger(iso, ca[2:], plain))
                 bond.SetStereo(Chem.BondStereo.STEREOCIS if bit else Chem.BondStereo.STEREOTRANS)
-        key = (_isomer_key(iso), _axis_signature(iso))
+        key = _isomer_key(iso)
         if key in seen:
             continue
         seen.add(key)
-        mirror = (_mirror_key(iso), _axis_signature(iso, mirror=True)) if merge_enantiomers else key
-        seen.add(mirror)
-        out.append((n_cis, min(key, mirror), iso))
+        if merge_enantiomers:
+            mirror_iso = _mirrored(iso)
+            mirror = _isomer_key(mirror_iso)
+            seen.add(mirror)
+            if mirror < key:   # of an enantiomer pair, report the one whose key sorts first
+                iso, key = mirror_iso, mirror
+        out.append((n_cis, key, iso))
         if len(out) >= limit:
             break
     out.sort(key=lambda t: (t[0], t[1]))   # E-like geometries first, then an order independent of numbering

@@ -136,3 +136,30 @@ def test_butatriene_geometry_is_named_as_not_kept():
     """cis/trans isomers of butatrienes exist (common practice); the model does not keep them and says so."""
     d = equivclass.analyze("C/C=C=C=C/C").to_dict()
     assert any("cumulene" in w for w in d["warnings"])
+
+
+@pytest.mark.parametrize("smiles, achiral, chiral", [
+    # counting rule for stereo elements with constitutional symmetry, worked by hand (Eliel & Wilen 1994,
+    # ch. 8 and 14, recalled from memory): two allene axes + two carbinol centres, symmetric skeleton:
+    # 16 configurations, 4 fixed by the swap -> 10 stereoisomers, 4 enantiomer pairs + 2 meso forms
+    ("CC=C=CC(O)C(O)C=C=CC", 6, 10),
+    # a carbinol between two allene axes is pseudo-asymmetric when the axes differ: (aR,aR)/(aS,aS) pair
+    # + two meso (r/s) forms
+    ("OC(C=C=CC)C=C=CC", 3, 4),
+])
+def test_stereoisomer_counts_with_allene_axes(smiles, achiral, chiral):
+    assert len(equivclass.analyze_each_stereoisomer(smiles)) == achiral
+    assert len(equivclass.analyze_each_stereoisomer(smiles, chiral_medium=True)) == chiral
+
+
+@pytest.mark.parametrize("writings", [
+    ("CCC(CO)=CC", "OCC(CC)=CC"),                                  # E/Z with equally heavy substituents
+    ("CC=C=CC(O)C(O)C=C=CC", "OC(C=C=CC)C(O)C=C=CC"),
+    ("C[C@H](O)C=C=CC", "CC=C=C[C@@H](C)O"),
+])
+def test_default_isomer_and_order_do_not_depend_on_the_writing(writings):
+    """The analysed stereoisomer and the order of the others are a property of the compound, not of the
+    SMILES string (common practice: a result must not depend on atom numbering)."""
+    runs = [[r.to_dict()["label"] + "|" + r.smiles for r in equivclass.analyze_each_stereoisomer(w)]
+            for w in writings]
+    assert all(run == runs[0] for run in runs), runs

@@ -273,7 +273,7 @@ def _classify_hh(mol, path, atoms, inner, nb, bond, planar):
                 if any(n.GetAtomicNum() == 8 for n in sp3.GetNeighbors()):
                     return "HH3_allylic_vicinal_oxygen"
                 return "HH3_allylic_vicinal"
-            return "HH3_sp3"
+            return _methyl_methine_rule(c1, c2) or "HH3_sp3"
         return "HH3_other"
     if nb == 4:
         if _is_cumulated(bond(1, 2), bond(2, 3)):
@@ -347,6 +347,20 @@ def _two_hetero_ring_rule(mol: Chem.Mol, ring, pair) -> str | None:
         return None
     key = f"HH3_{name}_{loc[0]}{loc[1]}"
     return key if key in coupling_table() else None
+
+
+def _methyl_methine_rule(c1: Chem.Atom, c2: Chem.Atom) -> str | None:
+    """CH3–CH(X)R and CH3–CH(X)2 with X = N, O, F, Cl, Br on the methine and no C=O beside it: their
+    rotamer-averaged 3J is smaller than the ethyl value (2-propanol 6.1, acetaldehyde diethyl acetal 5.3;
+    Pretsch H-H tables, recalled from memory)."""
+    hs = {c.GetIdx(): c.GetTotalNumHs(includeNeighbors=True) for c in (c1, c2)}
+    if sorted(hs.values()) != [1, 3]:
+        return None
+    ch = c1 if hs[c1.GetIdx()] == 1 else c2
+    n_x = sum(1 for n in ch.GetNeighbors() if n.GetAtomicNum() in (7, 8, 9, 17, 35))
+    if n_x == 0 or any(n.GetAtomicNum() == 6 and _is_carbonyl(n) for n in ch.GetNeighbors()):
+        return None
+    return "HH3_ch3_chx" if n_x == 1 else "HH3_ch3_chx2"
 
 
 def _endocyclic_alkene_ring(mol: Chem.Mol, c1: Chem.Atom, c2: Chem.Atom) -> int | None:

@@ -216,6 +216,11 @@ def test_dichloroethylenes_and_difluoroethylene_stay_within_calibration():
     ("C=CCO", 1, 2, 5.0, 6.2, {}),
     # geminal 2J of a ring CH2 beside the O of a 1,3-dioxolane (solketal 8.2-8.6; recalled from memory)
     ("CC1(C)OCC(CO)O1", 4, 4, 7.5, 9.5, {}),
+    # CH3-CH(X): smaller than the ethyl 7 Hz (Pretsch H-H, recalled from memory): 2-propanol 6.1,
+    # acetaldehyde diethyl acetal 5.3; ethanol keeps about 7
+    ("CC(C)O", 0, 1, 5.8, 6.6, {}),
+    ("CC(OCC)OCC", 0, 1, 5.0, 6.0, {}),
+    ("CCO", 0, 1, 6.6, 7.4, {}),
     # H-C-O-H without exchange (ethanol in DMSO-d6: CH2 dq, 3J(CH2,OH) about 5 Hz; recalled)
     ("CCO", 1, 2, 4.0, 6.0, {"labile_coupled": True}),
 ])

@@ -495,8 +495,12 @@ def isomeric_smiles(mol: Chem.Mol) -> str:
     not written otherwise) and tags on non-stereogenic centres are dropped."""
     if not mol.HasProp(ENUMERATED):
         return Chem.MolToSmiles(Chem.RemoveHs(mol, sanitize=False))
-    text = _isomer_key(mol)
-    again = Chem.MolFromSmiles(text, sanitize=False)               # round trip: RDKit's canonical form
+    return _round_trip(_perceived_smiles(mol, markers=False))
+
+
+def _round_trip(text: str) -> str:
+    """RDKit's canonical SMILES of a SMILES string (written from its own parse), or the text itself."""
+    again = Chem.MolFromSmiles(text, sanitize=False)
     if again is None:
         return text
     try:
@@ -507,11 +511,16 @@ def isomeric_smiles(mol: Chem.Mol) -> str:
 
 
 def _isomer_key(mol: Chem.Mol) -> str:
+    """Canonical key of an enumerated isomer (stereo re-perceived, axes as markers, round trip)."""
+    return _round_trip(_perceived_smiles(mol, markers=True))
+
+
+def _perceived_smiles(mol: Chem.Mol, markers: bool) -> str:
     """SMILES of an enumerated isomer with its stereo re-perceived (one writer for every key). A chosen
     allene axis is written as an isotope marker on its centre (its parity relative to each end's
     substituents in constitutional rank order), so that RDKit canonicalises axes and tags together and a
     centre made stereogenic only by two different axes keeps its tag."""
-    axes = [a.GetIdx() for a in atom_list(mol) if a.HasProp(AXIS_PARITY)]
+    axes = [a.GetIdx() for a in atom_list(mol) if a.HasProp(AXIS_PARITY)] if markers else []
     m = Chem.RemoveHs(mol, sanitize=False)
     if axes:
         ranks = list(Chem.CanonicalRankAtoms(mol, breakTies=False, includeChirality=False))
@@ -583,8 +592,10 @@ def stereoisomers(mol: Chem.Mol, limit: int = MAX_STEREOISOMERS,
         embedded = _with_embedded_configuration(mol, [si.centeredOn for si in poly])
         if embedded is not None:
             mol = embedded
-            if [si for si in elems if si not in poly]:
-                mol.RemoveAllConformers()   # the tags hold the fusions; each isomer is embedded with its own
+            if any(si.type == Chem.StereoType.Atom_Tetrahedral for si in elems if si not in poly):
+                # parities are read from geometry: each isomer with its own centres needs its own embedding
+                # (double bonds and allene axes are read from the bond stereo and atom properties)
+                mol.RemoveAllConformers()
             notes.append("ring-fusion/bridgehead centres " +
                          ", ".join(f"{mol.GetAtomWithIdx(si.centeredOn).GetSymbol()}{si.centeredOn}"
                                    for si in poly) +

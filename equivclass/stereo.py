@@ -108,6 +108,7 @@ def _same_ring(mol: Chem.Mol, x: int, ortho: int, end: int) -> bool:
 
 AXIS_PARITY = "equivclass_axis_parity"   # atom property: chosen configuration of an allene axis (±1)
 ENUMERATED = "equivclass_enumerated"      # molecule property: stereo set by `stereoisomers`
+HAS_AXES = "equivclass_has_axes"          # molecule property: some allene axis was chosen
 
 
 def _stereogenic_axes(mol: Chem.Mol, ranks) -> list[int]:
@@ -523,7 +524,8 @@ def _perceived_smiles(mol: Chem.Mol, markers: bool) -> str:
     allene axis is written as an isotope marker on its centre (its parity relative to each end's
     substituents in constitutional rank order), so that RDKit canonicalises axes and tags together and a
     centre made stereogenic only by two different axes keeps its tag."""
-    axes = [a.GetIdx() for a in atom_list(mol) if a.HasProp(AXIS_PARITY)] if markers else []
+    axes = [a.GetIdx() for a in atom_list(mol) if a.HasProp(AXIS_PARITY)] \
+        if markers and mol.HasProp(HAS_AXES) else []
     m = Chem.RemoveHs(mol, sanitize=False)
     if axes:
         ranks = list(Chem.CanonicalRankAtoms(mol, breakTies=False, includeChirality=False))
@@ -532,11 +534,18 @@ def _perceived_smiles(mol: Chem.Mol, markers: bool) -> str:
             order = sorted(nbrs[:2], key=lambda i: ranks[i]) + sorted(nbrs[2:], key=lambda i: ranks[i])
             p = mol.GetAtomWithIdx(c).GetIntProp(AXIS_PARITY) * _permutation_parity(nbrs, order)
             m.GetAtomWithIdx(c).SetIsotope(901 if p > 0 else 902)   # key only, never shown
+    frags = Chem.GetMolFrags(m, asMols=True, sanitizeFrags=False) if len(Chem.GetMolFrags(m)) > 1 else (m,)
+    return ".".join(sorted(_perceived_fragment(f) for f in frags))   # perception loses bond stereo in salts
+
+
+def _perceived_fragment(m: Chem.Mol) -> str:
     probe = Chem.Mol(m)
     Chem.AssignStereochemistry(probe, cleanIt=True, force=True)   # drops tags of non-stereogenic centres
-    for a, p in zip(m.GetAtoms(), probe.GetAtoms()):
-        if p.GetChiralTag() == Chem.ChiralType.CHI_UNSPECIFIED:
-            a.SetChiralTag(Chem.ChiralType.CHI_UNSPECIFIED)
+    unspecified = Chem.ChiralType.CHI_UNSPECIFIED
+    for i in range(m.GetNumAtoms()):
+        a = m.GetAtomWithIdx(i)
+        if a.GetChiralTag() != unspecified and probe.GetAtomWithIdx(i).GetChiralTag() == unspecified:
+            a.SetChiralTag(unspecified)
     Chem.AssignStereochemistry(m, cleanIt=False, force=True)      # keeps the cis/trans set on bonds
     return Chem.MolToSmiles(m)
 
@@ -613,6 +622,7 @@ def stereoisomers(mol: Chem.Mol, limit: int = MAX_STEREOISOMERS,
         for si, bit in zip(rest, combo):
             if si.type == "allene axis":
                 iso.GetAtomWithIdx(si.centeredOn).SetIntProp(AXIS_PARITY, 1 if bit else -1)
+                iso.SetBoolProp(HAS_AXES, True)
             elif si.type == Chem.StereoType.Atom_Tetrahedral:
                 iso.GetAtomWithIdx(si.centeredOn).SetChiralTag(
                     Chem.ChiralType.CHI_TETRAHEDRAL_CW if bit else Chem.ChiralType.CHI_TETRAHEDRAL_CCW)

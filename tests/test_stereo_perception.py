@@ -164,3 +164,10 @@ def test_default_isomer_and_order_do_not_depend_on_the_writing(writings):
             for w in writings]
     assert all(run == runs[0] for run in runs), runs
 
+
+
+def test_open_double_bond_in_a_salt_gives_both_geometries():
+    """A counter-ion changes nothing about E/Z isomerism (common practice): sodium crotonate has the E and
+    the Z salt."""
+    smiles = [r.smiles for r in equivclass.analyze_each_stereoisomer("CC=CC(=O)[O-].[Na+]")]
+    assert len(smiles) == 2 and any("/C=C/" in s for s in smiles) and any("/C=C\\" in s for s in smiles)

@@ -369,7 +369,7 @@ def _h_sp3(mol, c) -> ShiftEstimate:
                     continue
                 if kb != "alkyl":
                     betas.append((kb, rowb[3]))
-    functional_here = any(_lookup(_H_ALKYL, _group(mol, a, ci))[0] in _BETA_DAMPED_GROUPS for a in heavy)
+    functional_here = any(k in _BETA_DAMPED_GROUPS for k, _, _ in alphas)   # groups already classed above
     for kb, v in betas:
         if kind != "CH3":
             v = _beta_smaller_carbon(kb, v, functional_here)

@@ -174,14 +174,15 @@ class _Search:
         if target is None:
             return False
         nb2, par2 = target
-        # an allene centre lists its ends' substituents, not its own neighbours, so a substituent can be
-        # mapped before its end atom: an image outside the target's list is no automorphism
-        if any(x >= 0 and x not in nb2 for x in mapped):
-            return False
         if missing == 1:
             rest = [x for x in nb2 if x not in mapped]
             mapped[mapped.index(-1)] = rest[0]
-        return _perm_parity(nb2, mapped) * par * par2 == self.sign
+        try:
+            return _perm_parity(nb2, mapped) * par * par2 == self.sign
+        except KeyError:
+            # an allene centre lists its ends' substituents, not its own neighbours, so a substituent can
+            # be mapped before its end atom: an image outside the target's list is no automorphism
+            return False
 
     def _planar_ok(self, key) -> bool:
         g, img = self.g, self.img

@@ -13,6 +13,7 @@ from dataclasses import dataclass
 
 from rdkit import Chem
 from .atoms import atom_list, bond_list
+from .permutations import parity as perm_parity
 
 _MAIN_GROUP_TETRAHEDRAL = {5, 6, 7, 13, 14, 15, 16, 32, 33, 34, 50, 51, 52}
 _LONE_PAIR_PYRAMIDAL = {15, 16, 33, 34, 51, 52}  # P, S, As, Se, Sb, Te invert slowly (common practice)
@@ -119,17 +120,6 @@ def _stereogenic_axes(mol: Chem.Mol, ranks) -> list[int]:
         if ranks[a1] != ranks[a2] and ranks[b1] != ranks[b2]:
             out.append(c)
     return out
-
-
-def _permutation_parity(seq_from, seq_to) -> int:
-    pos = {v: k for k, v in enumerate(seq_from)}
-    perm = [pos[v] for v in seq_to]
-    parity = 1
-    for i in range(len(perm)):
-        for j in range(i + 1, len(perm)):
-            if perm[i] > perm[j]:
-                parity = -parity
-    return parity
 
 
 def long_cumulenes(mol: Chem.Mol) -> list[tuple[int, ...]]:
@@ -532,7 +522,7 @@ def _perceived_smiles(mol: Chem.Mol, markers: bool) -> str:
         for c in axes:
             nbrs = _allene_axis(mol.GetAtomWithIdx(c))
             order = sorted(nbrs[:2], key=lambda i: ranks[i]) + sorted(nbrs[2:], key=lambda i: ranks[i])
-            p = mol.GetAtomWithIdx(c).GetIntProp(AXIS_PARITY) * _permutation_parity(nbrs, order)
+            p = mol.GetAtomWithIdx(c).GetIntProp(AXIS_PARITY) * perm_parity(nbrs, order)
             m.GetAtomWithIdx(c).SetIsotope(901 if p > 0 else 902)   # key only, never shown
     frags = Chem.GetMolFrags(m, asMols=True, sanitizeFrags=False) if len(Chem.GetMolFrags(m)) > 1 else (m,)
     return ".".join(sorted(_perceived_fragment(f) for f in frags))   # perception loses bond stereo in salts

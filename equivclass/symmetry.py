@@ -16,6 +16,7 @@ from dataclasses import dataclass
 from rdkit import Chem
 from .atoms import atom_list, bond_list
 from .disjoint_sets import DisjointSets
+from .permutations import parity as perm_parity
 
 from .errors import InputError
 from .stereo import Configuration
@@ -133,24 +134,6 @@ def refine(labels, nbrs, bond_label) -> list[int]:
         colour, n_colours = new, len(index)
 
 
-def _perm_parity(seq_from, seq_to) -> int:
-    """+1 if seq_to is an even permutation of seq_from, −1 if odd."""
-    pos = {v: k for k, v in enumerate(seq_from)}
-    perm = [pos[v] for v in seq_to]
-    parity, seen = 1, [False] * len(perm)
-    for i in range(len(perm)):
-        if seen[i]:
-            continue
-        j, length = i, 0
-        while not seen[j]:
-            seen[j] = True
-            j = perm[j]
-            length += 1
-        if length % 2 == 0:
-            parity = -parity
-    return parity
-
-
 class _Search:
     """One witness search: extend a partial map depth-first, checking configurations as soon as known."""
 
@@ -178,7 +161,7 @@ class _Search:
             rest = [x for x in nb2 if x not in mapped]
             mapped[mapped.index(-1)] = rest[0]
         try:
-            return _perm_parity(nb2, mapped) * par * par2 == self.sign
+            return perm_parity(nb2, mapped) * par * par2 == self.sign
         except KeyError:
             # an allene centre lists its ends' substituents, not its own neighbours, so a substituent can
             # be mapped before its end atom: an image outside the target's list is no automorphism
